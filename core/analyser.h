@@ -1,0 +1,61 @@
+/* The analyser's state, shared by plumb.c (setup and queries) and
+   process.c (the per-hop analysis). Internal. */
+#ifndef PLUMB_ANALYSER_H
+#define PLUMB_ANALYSER_H
+
+#include "internal.h"
+
+#define MIN_SAMPLE_RATE_HZ 8000.0
+#define MAX_SAMPLE_RATE_HZ 384000.0
+/* YIN integration window: a little longer than the period of E1. */
+#define YIN_WINDOW_S 0.030
+/* Frames are analysed every fft_size / HOP_DIVISOR samples. */
+#define HOP_DIVISOR 8
+/* Buffers allow pitches down to A0, whatever the range set. */
+#define LOWEST_SUPPORTED_MIDI 21
+#define HIGHEST_SUPPORTED_MIDI 108
+/* Frames quieter than this are not searched for a pitch. */
+#define SEARCH_GATE_DBFS (-70.0)
+/* A decided frame is voiced only if this share of its energy lies in
+   harmonic peaks. Common practice, no source. */
+#define MIN_HARMONIC_RATIO 0.4
+/* Samples beyond this magnitude (60 dB over full scale) are clipped. */
+#define SAMPLE_LIMIT 1000.0f
+
+struct plumb {
+  plumb_settings settings;
+  int fft_size, hop, lag_min, lag_max;
+  /* input FIFO: the newest fft_size samples, `pending` of them new */
+  float *window;
+  int pending;
+  uint64_t samples_in;
+  /* per-frame analysis, kept for the decoding lag */
+  yin_analyser yin;
+  spectrum_analyser spectrum;
+  double threshold_weights[PLUMB_THRESHOLDS];
+  fftwf_complex *spectra[PLUMB_SPECTRUM_RING];
+  float band_db[PLUMB_SPECTRUM_RING][PLUMB_BANDS_MAX];
+  double level_dbfs[PLUMB_SPECTRUM_RING];
+  double onset_db[PLUMB_SPECTRUM_RING];
+  float peak[PLUMB_SPECTRUM_RING];
+  uint64_t centre_sample[PLUMB_SPECTRUM_RING];
+  uint64_t frames_analysed;
+  viterbi_decoder decoder;
+  /* notes */
+  note_tracker tracker;
+  measure_context measure;
+  double *scratch;
+  note_queue queue;
+  timeline_marks timeline;
+  uint32_t next_index;
+  /* readings */
+  plumb_live live;
+  plumb_counts counts;
+};
+
+/* process.c */
+void analyser_process_hop(plumb *self);
+/* Complete what the tracker holds (end of take). */
+void analyser_flush(plumb *self);
+
+#endif /* PLUMB_ANALYSER_H */

@@ -1,0 +1,124 @@
+/*
+  Frame pitch refined from the harmonic peaks.
+
+  Each harmonic's frequency comes from the phase advance of its peak bin
+  between two spectra `hop` samples apart: the phase-vocoder instantaneous
+  frequency, which has no bias on a steady sinusoid (Brown & Puckette 1993).
+  The harmonics are searched from the lowest up, and after each one the
+  fundamental is re-fitted, so that the search window for the next harmonic
+  narrows as the estimate improves. The fit is weighted least squares of
+  f_n = n f0 with weights |X_n|^2, since the variance of a peak's frequency
+  estimate falls with its power (Rife & Boorstyn 1974).
+*/
+#include "internal.h"
+
+#include <math.h>
+#include <string.h>
+
+/* Relative error allowed for the coarse YIN estimate. */
+#define COARSE_RELATIVE_ERROR 0.01
+/* Harmonics above this are left to the note-level partial analysis. */
+#define FRAME_HARMONIC_LIMIT_HZ 8000.0
+
+static double power_at(const fftwf_complex *bins, int k) {
+  return (double)bins[k][0] * bins[k][0] + (double)bins[k][1] * bins[k][1];
+}
+
+static double wrap_phase(double phase) {
+  return phase - 2.0 * M_PI * floor(phase / (2.0 * M_PI) + 0.5);
+}
+
+/* Instantaneous frequency, in bins, of bin k from the phase advance. */
+static double vocoder_bin(const fftwf_complex *current,
+                          const fftwf_complex *previous, int k, int fft_size,
+                          int hop) {
+  double phase_now = atan2(current[k][1], current[k][0]);
+  double phase_before = atan2(previous[k][1], previous[k][0]);
+  double expected = 2.0 * M_PI * k * hop / fft_size;
+  double deviation = wrap_phase(phase_now - phase_before - expected);
+  return k + deviation * fft_size / (2.0 * M_PI * hop);
+}
+
+/* The strongest local maximum within radius of `centre`; -1 if none. */
+static int find_peak(const fftwf_complex *bins, int centre, int radius,
+                     int last_bin) {
+  int best = -1;
+  double best_power = 0.0;
+  for (int k = centre - radius; k <= centre + radius; ++k) {
+    if (k < 1 || k >= last_bin) continue;
+    double p = power_at(bins, k);
+    if (p > best_power && p >= power_at(bins, k - 1) &&
+        p >= power_at(bins, k + 1)) {
+      best = k;
+      best_power = p;
+    }
+  }
+  return best;
+}
+
+typedef struct {
+  double weighted_nf; /* sum w n f */
+  double weighted_nn; /* sum w n^2 */
+} fit_sums;
+
+static double peak_energy(const fftwf_complex *bins, int k, int last_bin) {
+  double e = 0.0;
+  for (int j = k - 2; j <= k + 2; ++j)
+    if (j >= 0 && j <= last_bin) e += power_at(bins, j);
+  return e;
+}
+
+bool harmonics_refine(const fftwf_complex *current,
+                      const fftwf_complex *previous, int fft_size, int hop,
+                      double sample_rate_hz, double f0_coarse_hz,
+                      harmonic_set *harmonics, harmonic_fit *fit) {
+  memset(harmonics, 0, sizeof *harmonics);
+  fit->f0_hz = NAN;
+  fit->harmonic_ratio = 0.0;
+  fit->found = 0;
+  const double bin_hz = sample_rate_hz / fft_size;
+  const double limit_hz = fmin(FRAME_HARMONIC_LIMIT_HZ, 0.45 * sample_rate_hz);
+  const int last_bin = fft_size / 2;
+  const int spacing_radius = (int)floor(0.4 * f0_coarse_hz / bin_hz);
+  double f0 = f0_coarse_hz;
+  fit_sums sums = {0.0, 0.0};
+  double harmonic_energy = 0.0;
+  int last_harmonic_bin = 0;
+  for (int n = 1; n <= PLUMB_FRAME_HARMONICS; ++n) {
+    double expected_hz = n * f0;
+    if (expected_hz > limit_hz) break;
+    /* Until a harmonic is found the coarse estimate's error bounds the
+       search; afterwards the distance the fit has moved does. */
+    double uncertainty_hz = fit->found == 0
+                                ? COARSE_RELATIVE_ERROR * f0
+                                : fmax(2.0 * fabs(f0 - f0_coarse_hz), 0.003 * f0);
+    int radius = 1 + (int)ceil(n * uncertainty_hz / bin_hz);
+    if (radius > spacing_radius) radius = spacing_radius > 1 ? spacing_radius : 1;
+    int centre = (int)lround(expected_hz / bin_hz);
+    last_harmonic_bin = centre + radius;
+    int k = find_peak(current, centre, radius, last_bin);
+    if (k < 0) continue;
+    double frequency_bins = vocoder_bin(current, previous, k, fft_size, hop);
+    if (fabs(frequency_bins - k) > 1.0) continue; /* not a steady peak */
+    double frequency_hz = frequency_bins * bin_hz;
+    double power = power_at(current, k);
+    harmonics->frequency_hz[n - 1] = (float)frequency_hz;
+    harmonics->amplitude[n - 1] = (float)sqrt(power);
+    harmonic_energy += peak_energy(current, k, last_bin);
+    sums.weighted_nf += power * n * frequency_hz;
+    sums.weighted_nn += power * (double)n * n;
+    f0 = sums.weighted_nf / sums.weighted_nn;
+    fit->found++;
+  }
+  if (fit->found == 0 || !(sums.weighted_nn > 0.0)) return false;
+  /* Energy from half the fundamental up to the last harmonic searched. */
+  double total = 0.0;
+  int first_bin = (int)floor(0.5 * f0_coarse_hz / bin_hz);
+  if (first_bin < 1) first_bin = 1;
+  if (last_harmonic_bin + 2 > last_bin) last_harmonic_bin = last_bin - 2;
+  for (int k = first_bin; k <= last_harmonic_bin + 2; ++k)
+    total += power_at(current, k);
+  fit->f0_hz = f0;
+  fit->harmonic_ratio = total > 0.0 ? fmin(1.0, harmonic_energy / total) : 0.0;
+  return true;
+}

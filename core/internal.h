@@ -1,0 +1,263 @@
+/*
+  Internal types shared by the core's modules. Not installed; hosts use
+  plumb.h only. Every module here follows one rule: memory is obtained in an
+  _init function (called from plumb_new) and never on the processing path.
+*/
+#ifndef PLUMB_INTERNAL_H
+#define PLUMB_INTERNAL_H
+
+#include "plumb.h"
+
+#include <fftw3.h>
+
+/* At most this many pitch candidates (YIN troughs) per frame. */
+#define PLUMB_CANDIDATES_MAX 8
+/* Harmonics measured in every frame (the note-level partial search of the
+   harmonicity measures may go further). */
+#define PLUMB_FRAME_HARMONICS 16
+/* Frames between a frame's analysis and its Viterbi decision. */
+#define PLUMB_DECODE_LAG 8
+/* Spectra kept for decisions: the lag, the frame before it, and slack. */
+#define PLUMB_SPECTRUM_RING (PLUMB_DECODE_LAG + 3)
+/* Frames one note keeps; a longer note is measured over its first part. */
+#define PLUMB_NOTE_FRAMES_MAX 4096
+/* Completed notes waiting for the consumer. Power of two. */
+#define PLUMB_QUEUE_CAPACITY 256
+/* Bands of the onset detection function. */
+#define PLUMB_BANDS_MAX 40
+/* Timeline marks remembered. Power of two. */
+#define PLUMB_TIMELINE_MARKS 64
+
+/* ------------------------------------------------------------ fft.c */
+
+/* FFTW's planner is not thread-safe, and other plugins in the same host
+   plan too: every plan is made under one process-wide lock. */
+fftwf_plan plumb_fft_plan_r2c(int n, float *in, fftwf_complex *out);
+fftwf_plan plumb_fft_plan_c2r(int n, fftwf_complex *in, float *out);
+void plumb_fft_destroy(fftwf_plan plan);
+
+/* ------------------------------------------------------------ yin.c */
+
+typedef struct {
+  double lag_samples; /* refined by parabolic interpolation */
+  double value;       /* cumulative-mean-normalised difference there */
+} yin_trough;
+
+typedef struct {
+  int fft_size;        /* transform length */
+  int window_samples;  /* W, the integration window */
+  int lag_max_samples; /* largest lag the buffers allow */
+  float *segment;      /* W + lag_max samples, mean removed */
+  float *window_part;  /* the first W samples, zero padded */
+  float *correlation;  /* inverse transform output */
+  double *energy_sum;  /* running sum of squares of segment */
+  float *cmndf;        /* d'(tau), tau = 0 .. lag_max */
+  fftwf_complex *spectrum_segment;
+  fftwf_complex *spectrum_window;
+  fftwf_plan forward;
+  fftwf_plan inverse;
+} yin_analyser;
+
+plumb_status yin_init(yin_analyser *yin, int fft_size, int window_samples,
+                      int lag_max_samples);
+void yin_destroy(yin_analyser *yin);
+/* Offset into a frame of fft_size samples where the segment starts, so
+   that the segment is centred on the frame. */
+int yin_segment_offset(const yin_analyser *yin);
+/* Compute d'(tau) of the centred segment of `frame` and return up to
+   max_troughs local minima with lag in [lag_min, lag_max], in order of lag.
+   Returns 0 for a segment with no energy. */
+int yin_analyse(yin_analyser *yin, const float *frame, int lag_min,
+                int lag_max, yin_trough *troughs, int max_troughs);
+
+/* ------------------------------------------------------------ pitch_prob.c */
+
+typedef struct {
+  double frequency_hz;
+  double probability;
+} pitch_candidate;
+
+typedef struct {
+  int count;
+  pitch_candidate candidate[PLUMB_CANDIDATES_MAX];
+  double voiced_probability; /* sum of the candidates' probabilities */
+} candidate_set;
+
+#define PLUMB_THRESHOLDS 100
+
+/* Weights of the thresholds 0.01, 0.02 ... 1.00 under a Beta(2, 18) prior
+   (Mauch & Dixon 2014). */
+void pitch_prob_thresholds(double weights[PLUMB_THRESHOLDS]);
+/* Turn YIN troughs into pitch candidates with probabilities. */
+void pitch_prob_candidates(const double weights[PLUMB_THRESHOLDS],
+                           const yin_trough *troughs, int count,
+                           double sample_rate_hz, candidate_set *out);
+
+/* ------------------------------------------------------------ viterbi.c */
+
+typedef struct {
+  candidate_set frames[PLUMB_SPECTRUM_RING];
+  signed char back[PLUMB_SPECTRUM_RING][PLUMB_CANDIDATES_MAX + 1];
+  double score[PLUMB_CANDIDATES_MAX + 1]; /* state 0: unvoiced */
+  uint64_t frames_pushed;
+} viterbi_decoder;
+
+void viterbi_reset(viterbi_decoder *decoder);
+void viterbi_push(viterbi_decoder *decoder, const candidate_set *frame);
+/* The state decided for the frame `lag` frames before the newest one:
+   0 for unvoiced, 1 + candidate index for voiced. */
+int viterbi_decide(const viterbi_decoder *decoder, int lag);
+const candidate_set *viterbi_frame(const viterbi_decoder *decoder, int lag);
+
+/* ------------------------------------------------------------ spectrum.c */
+
+typedef struct {
+  int fft_size;
+  double sample_rate_hz;
+  float *window;        /* Hann */
+  float *windowed;
+  fftwf_plan forward;   /* executed with the new-array interface */
+  int band_count;
+  int band_first_bin[PLUMB_BANDS_MAX + 1];
+  double window_power;  /* sum of window^2, for dBFS */
+} spectrum_analyser;
+
+plumb_status spectrum_init(spectrum_analyser *spectrum, int fft_size,
+                           double sample_rate_hz);
+void spectrum_destroy(spectrum_analyser *spectrum);
+/* Window `frame` and transform it into `out` (fft_size/2 + 1 bins, from
+   fftwf_alloc_complex). */
+void spectrum_transform(spectrum_analyser *spectrum, const float *frame,
+                        fftwf_complex *out);
+/* Band levels in dB (floored) and the frame level in dBFS. */
+void spectrum_levels(const spectrum_analyser *spectrum,
+                     const fftwf_complex *bins, float *band_db,
+                     double *frame_dbfs);
+
+/* ------------------------------------------------------------ harmonics.c */
+
+typedef struct {
+  float frequency_hz[PLUMB_FRAME_HARMONICS]; /* 0 where not found */
+  float amplitude[PLUMB_FRAME_HARMONICS];    /* linear, 0 where not found */
+} harmonic_set;
+
+typedef struct {
+  double f0_hz;           /* weighted fit over the harmonics */
+  double harmonic_ratio;  /* energy in harmonic peaks / all energy */
+  int found;              /* harmonics found */
+} harmonic_fit;
+
+/* Refine a coarse f0 from the harmonic peaks of two consecutive spectra
+   `hop` samples apart, by phase-vocoder instantaneous frequency (Brown &
+   Puckette 1993). Returns false when too little harmonic energy is found. */
+bool harmonics_refine(const fftwf_complex *current,
+                      const fftwf_complex *previous, int fft_size, int hop,
+                      double sample_rate_hz, double f0_coarse_hz,
+                      harmonic_set *harmonics, harmonic_fit *fit);
+
+/* ------------------------------------------------------------ frames */
+
+/* What the analysis knows of one decided frame; the note tracker's input. */
+typedef struct {
+  uint64_t centre_sample; /* frame centre, in samples since reset */
+  bool voiced;
+  double f0_hz;           /* NaN when unvoiced */
+  double voiced_probability;
+  double harmonic_ratio;
+  double level_dbfs;      /* windowed frame level */
+  double onset_db;        /* onset detection function */
+  float peak;             /* peak |sample| over the hop around the centre */
+  harmonic_set harmonics;
+} frame_record;
+
+/* ------------------------------------------------------------ note_measures.c */
+
+typedef struct {
+  double sample_rate_hz;
+  double hop_s;
+  double frame_s;         /* analysis frame length, for window corrections */
+  int fft_size;
+  int hop;
+  plumb_tuning tuning;
+  double tolerance_cents;
+} measure_context;
+
+/* Measure one note from its frames and fill everything but index and
+   timeline_s. `scratch` holds at least 4 * count doubles. */
+void note_measure(const measure_context *context, const frame_record *frames,
+                  int count, double *scratch, plumb_note *note);
+
+/* ------------------------------------------------------------ note_tracker.c */
+
+typedef struct {
+  double hop_s;
+  int min_note_frames;
+  /* state */
+  bool active;
+  int count;               /* frames in the current note */
+  double reference_midi;   /* the note's running pitch (NaN before) */
+  double reference_sum;
+  int reference_n;
+  int unvoiced_run;
+  int quiet_run;
+  int change_run;          /* frames the smoothed pitch has left the note */
+  double peak_level_dbfs;
+  double onset_history[16];
+  int onset_history_n;
+  frame_record pending;    /* one frame of look-ahead for onset peaks */
+  bool has_pending;
+  double previous_onset_db;
+  frame_record *frames;    /* PLUMB_NOTE_FRAMES_MAX */
+} note_tracker;
+
+/* A segment closed by the tracker: frames [0, count) of tracker->frames. */
+typedef void (*note_sink)(void *context, const frame_record *frames,
+                          int count);
+
+plumb_status note_tracker_init(note_tracker *tracker);
+void note_tracker_destroy(note_tracker *tracker);
+void note_tracker_reset(note_tracker *tracker, double hop_s,
+                        double min_note_ms);
+void note_tracker_set_min_note(note_tracker *tracker, double min_note_ms);
+void note_tracker_push(note_tracker *tracker, const frame_record *frame,
+                       note_sink sink, void *context);
+void note_tracker_flush(note_tracker *tracker, note_sink sink, void *context);
+
+/* ------------------------------------------------------------ note_queue.c */
+
+typedef struct {
+  plumb_note *slots;            /* PLUMB_QUEUE_CAPACITY */
+  _Atomic uint32_t write_index;
+  _Atomic uint32_t read_index;
+} note_queue;
+
+plumb_status note_queue_init(note_queue *queue);
+void note_queue_destroy(note_queue *queue);
+void note_queue_clear(note_queue *queue); /* only while no consumer runs */
+bool note_queue_push(note_queue *queue, const plumb_note *note);
+bool note_queue_pop(note_queue *queue, plumb_note *note);
+
+/* ------------------------------------------------------------ timeline.c */
+
+typedef struct {
+  uint64_t sample[PLUMB_TIMELINE_MARKS];
+  double position_s[PLUMB_TIMELINE_MARKS];
+  double speed[PLUMB_TIMELINE_MARKS];
+  uint32_t count;
+} timeline_marks;
+
+void timeline_reset(timeline_marks *marks);
+void timeline_mark(timeline_marks *marks, uint64_t sample, double position_s,
+                   double speed);
+/* Transport position of audio sample `sample`. */
+double timeline_position(const timeline_marks *marks, uint64_t sample,
+                         double sample_rate_hz);
+
+/* ------------------------------------------------------------ stats.c */
+
+double stats_median(double *values, int count); /* reorders values */
+/* Least-squares line y = a + b x; returns false when x has no spread. */
+bool stats_line_fit(const double *x, const double *y, int count,
+                    double *intercept, double *slope);
+
+#endif /* PLUMB_INTERNAL_H */

@@ -1,0 +1,378 @@
+/*
+  Per-note intonation measures from a note's frames: the steady part, the
+  centre pitch (over whole vibrato cycles when there is vibrato), spread,
+  drift, vibrato rate and extent, the fundamental from a stiff-string fit
+  of the partials, the nearest target and the verdict.
+*/
+#include "internal.h"
+
+#include <math.h>
+#include <string.h>
+
+/* Common practice, no source; tuned on the project's test takes. */
+#define EDGE_TRIM_FRAMES 2         /* window overlap with what comes before/after */
+#define STEADY_BAND_CENTS 25.0     /* attack scoops and release glides lie outside */
+#define MIN_VOICED_FRACTION 0.4    /* below this an event has no definite pitch */
+#define MIN_HARMONIC_RATIO 0.5
+#define VIBRATO_MIN_HZ 3.0
+#define VIBRATO_MAX_HZ 12.0
+#define VIBRATO_MIN_CORRELATION 0.5
+#define VIBRATO_MIN_EXTENT_CENTS 2.0
+#define UNSTEADY_SPREAD_FACTOR 1.5 /* of the tolerance, without vibrato */
+
+static double frame_cents(const frame_record *frame, double reference_hz) {
+  return 1200.0 * log2(frame->f0_hz / reference_hz);
+}
+
+static void leave_unpitched(plumb_note *note) {
+  note->midi = -1;
+  note->target_hz = note->f0_hz = note->cents = NAN;
+  note->spread_cents = note->drift_cents_per_s = NAN;
+  note->vibrato_hz = note->vibrato_cents = NAN;
+  note->inharmonicity_b = NAN;
+  note->verdict = PLUMB_VERDICT_UNPITCHED;
+}
+
+static void clear_note(plumb_note *note) {
+  memset(note, 0, sizeof *note);
+  note->midi = -1;
+  note->partials = -1;
+  note->target_hz = note->f0_hz = note->cents = NAN;
+  note->spread_cents = note->drift_cents_per_s = NAN;
+  note->vibrato_hz = note->vibrato_cents = note->confidence = NAN;
+  note->inharmonicity_b = note->hnr_db = note->odd_even_db = NAN;
+  note->centroid_hz = note->attack_ms = note->decay_ms = NAN;
+  note->sustain_db = note->release_ms = note->peak_dbfs = NAN;
+  note->timeline_s = NAN;
+  for (int k = 0; k < PLUMB_MAX_PARTIALS; ++k) note->partial_cents[k] = NAN;
+}
+
+/* The steady part: trim the window overlap at both ends, then attack and
+   release frames whose pitch lies outside a band around the note's median. */
+typedef struct {
+  int first, last;      /* inclusive frame range */
+  double reference_hz;  /* cents are measured from here */
+} steady_part;
+
+static bool find_steady_part(const frame_record *frames, int count,
+                             double *scratch, steady_part *part) {
+  int first = count > 3 * EDGE_TRIM_FRAMES ? EDGE_TRIM_FRAMES : 0;
+  int last = count - 1 - first;
+  int n = 0;
+  for (int i = first; i <= last; ++i)
+    if (frames[i].voiced) scratch[n++] = frames[i].f0_hz;
+  if (n < 3) return false;
+  double reference_hz = stats_median(scratch, n);
+  int m = 0;
+  for (int i = first; i <= last; ++i)
+    if (frames[i].voiced) scratch[m++] = fabs(frame_cents(&frames[i], reference_hz));
+  /* Sinusoidal vibrato of extent e has a median |deviation| of e/sqrt(2). */
+  double band = STEADY_BAND_CENTS + 1.6 * stats_median(scratch, m);
+  while (first < last && !(frames[first].voiced &&
+                           fabs(frame_cents(&frames[first], reference_hz)) <= band))
+    ++first;
+  while (last > first && !(frames[last].voiced &&
+                           fabs(frame_cents(&frames[last], reference_hz)) <= band))
+    --last;
+  part->first = first;
+  part->last = last;
+  part->reference_hz = reference_hz;
+  return last - first >= 2;
+}
+
+/* Cents of every frame of the steady part on a uniform grid; unvoiced
+   frames inside it are bridged linearly. Returns the number of samples. */
+static int uniform_cents(const frame_record *frames, const steady_part *part,
+                         double *cents) {
+  int n = part->last - part->first + 1;
+  int previous = -1;
+  for (int i = 0; i < n; ++i) {
+    const frame_record *f = &frames[part->first + i];
+    if (!f->voiced) continue;
+    cents[i] = frame_cents(f, part->reference_hz);
+    for (int j = previous + 1; j < i; ++j)
+      cents[j] = previous < 0 ? cents[i]
+                              : cents[previous] + (cents[i] - cents[previous]) *
+                                                      (j - previous) / (i - previous);
+    previous = i;
+  }
+  for (int j = previous + 1; j < n; ++j) cents[j] = cents[previous];
+  return n;
+}
+
+typedef struct {
+  bool present;
+  double rate_hz;
+  double extent_cents;
+  double centre_cents; /* mean over whole cycles */
+  double first_s, last_s;
+} vibrato_reading;
+
+static double normalised_correlation(const double *x, int n, int lag) {
+  double xy = 0.0, xx = 0.0, yy = 0.0;
+  for (int i = 0; i + lag < n; ++i) {
+    xy += x[i] * x[i + lag];
+    xx += x[i] * x[i];
+    yy += x[i + lag] * x[i + lag];
+  }
+  return xx > 0.0 && yy > 0.0 ? xy / sqrt(xx * yy) : 0.0;
+}
+
+/* Periodicity of the detrended pitch: the best normalised autocorrelation
+   at lags of 3 to 12 Hz. */
+static bool vibrato_is_periodic(const double *residual, int n, double hop_s) {
+  int lag_min = (int)floor(1.0 / (VIBRATO_MAX_HZ * hop_s));
+  int lag_max = (int)ceil(1.0 / (VIBRATO_MIN_HZ * hop_s));
+  if (lag_min < 2) lag_min = 2;
+  double best = 0.0;
+  int best_lag = 0;
+  for (int lag = lag_min; lag <= lag_max && 2 * lag <= n; ++lag) {
+    double r = normalised_correlation(residual, n, lag);
+    if (r > best) {
+      best = r;
+      best_lag = lag;
+    }
+  }
+  /* At least one and a half cycles must be seen. */
+  return best_lag > 0 && best >= VIBRATO_MIN_CORRELATION && n >= 3 * best_lag / 2;
+}
+
+/* Parabolic interpolation of an extreme sample of a sampled sinusoid. */
+static double interpolated_extreme(const double *x, int n, int i) {
+  if (i <= 0 || i >= n - 1) return x[i];
+  double a = x[i - 1], b = x[i], c = x[i + 1];
+  double d = a - 2.0 * b + c;
+  if (d == 0.0) return b;
+  double shift = 0.5 * (a - c) / d;
+  if (fabs(shift) > 1.0) return b;
+  return b - 0.25 * (a - c) * shift;
+}
+
+/* The analysis window and the hop average the instantaneous frequency, so
+   a vibrato of rate f reads smaller by the window's transfer function at f:
+   the Hann transform sinc(v)/(1-v^2), v = f*frame, times the hop's sinc. */
+static double window_attenuation(double rate_hz, double frame_s, double hop_s) {
+  double v = rate_hz * frame_s;
+  double hann = fabs(v) < 1e-9 ? 1.0 : sin(M_PI * v) / (M_PI * v) / (1.0 - v * v);
+  double u = M_PI * rate_hz * hop_s;
+  double hop = fabs(u) < 1e-9 ? 1.0 : sin(u) / u;
+  return fabs(hann * hop);
+}
+
+static void measure_cycles(const double *cents, const double *residual, int n,
+                           double hop_s, double frame_s, vibrato_reading *v) {
+  double crossing[256];
+  int crossings = 0;
+  for (int i = 0; i + 1 < n && crossings < 256; ++i)
+    if (residual[i] < 0.0 && residual[i + 1] >= 0.0)
+      crossing[crossings++] =
+          i + residual[i] / (residual[i] - residual[i + 1]); /* in frames */
+  if (crossings < 2) return;
+  double cycles = crossings - 1;
+  v->rate_hz = cycles / ((crossing[crossings - 1] - crossing[0]) * hop_s);
+  /* Centre: the mean of the pitch over whole cycles (trapezoids, with the
+     ends interpolated at the crossings). */
+  double area = 0.0;
+  double a = crossing[0], b = crossing[crossings - 1];
+  int ia = (int)floor(a), ib = (int)floor(b);
+  double ca = cents[ia] + (cents[ia + 1] - cents[ia]) * (a - ia);
+  double cb = cents[ib] + (cents[ib + 1] - cents[ib]) * (b - ib);
+  if (ia == ib) area = 0.5 * (ca + cb) * (b - a);
+  else {
+    area += 0.5 * (ca + cents[ia + 1]) * (ia + 1 - a);
+    for (int i = ia + 1; i < ib; ++i) area += 0.5 * (cents[i] + cents[i + 1]);
+    area += 0.5 * (cents[ib] + cb) * (b - ib);
+  }
+  v->centre_cents = area / (b - a);
+  /* Extent: half the swing of each cycle, averaged. */
+  double swing = 0.0;
+  for (int c = 0; c + 1 < crossings; ++c) {
+    int from = (int)ceil(crossing[c]), to = (int)floor(crossing[c + 1]);
+    int hi = from, lo = from;
+    for (int i = from; i <= to && i < n; ++i) {
+      if (residual[i] > residual[hi]) hi = i;
+      if (residual[i] < residual[lo]) lo = i;
+    }
+    swing += 0.5 * (interpolated_extreme(residual, n, hi) -
+                    interpolated_extreme(residual, n, lo));
+  }
+  v->extent_cents = swing / cycles / window_attenuation(v->rate_hz, frame_s, hop_s);
+  v->first_s = a * hop_s;
+  v->last_s = b * hop_s;
+  v->present = v->extent_cents >= VIBRATO_MIN_EXTENT_CENTS;
+}
+
+/* Robust mean: the mean of the values within 3 scaled MADs of the median. */
+static double robust_mean(const double *values, int n, double *scratch) {
+  memcpy(scratch, values, sizeof(double) * (size_t)n);
+  double median = stats_median(scratch, n);
+  for (int i = 0; i < n; ++i) scratch[i] = fabs(values[i] - median);
+  double limit = fmax(3.0 * 1.4826 * stats_median(scratch, n), 1.0);
+  double sum = 0.0;
+  int kept = 0;
+  for (int i = 0; i < n; ++i)
+    if (fabs(values[i] - median) <= limit) {
+      sum += values[i];
+      ++kept;
+    }
+  return kept > 0 ? sum / kept : median;
+}
+
+/*
+  The fundamental from the partials, with the stiff-string model
+  f_n = n f0 sqrt(1 + B n^2) (Fletcher 1964). Each frame's pitch f_t is a
+  fit of f_n = n f_t, so ratio_n = f_n / (n f_t) is free of vibrato; its
+  square is linear in n^2: ratio_n^2 = c^2 + c^2 B n^2. Weighted least
+  squares on n^2 gives c and B (in the manner of the partial-frequency
+  deviation estimators, Rauhala, Lehtonen & Valimaki 2007). Where B is not
+  significant, the harmonic model (B = 0) is fitted instead.
+*/
+typedef struct {
+  double scale; /* c: true f0 / frame-fit f0 */
+  double b;     /* NaN when fewer than three partials */
+} partial_fit;
+
+static partial_fit fit_partials(const frame_record *frames,
+                                const steady_part *part) {
+  double weight[PLUMB_FRAME_HARMONICS] = {0};
+  double ratio[PLUMB_FRAME_HARMONICS] = {0};
+  for (int i = part->first; i <= part->last; ++i) {
+    const frame_record *f = &frames[i];
+    if (!f->voiced) continue;
+    for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
+      double a = f->harmonics.amplitude[k];
+      if (!(a > 0.0)) continue;
+      weight[k] += a * a;
+      ratio[k] += a * a * f->harmonics.frequency_hz[k] / ((k + 1) * f->f0_hz);
+    }
+  }
+  double sw = 0.0, sx = 0.0, sy = 0.0, sxx = 0.0, sxy = 0.0;
+  int used = 0;
+  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
+    if (!(weight[k] > 0.0)) continue;
+    double n = k + 1, y = ratio[k] / weight[k];
+    double w = weight[k] * n * n, x = n * n;
+    y *= y;
+    sw += w;
+    sx += w * x;
+    sy += w * y;
+    sxx += w * x * x;
+    sxy += w * x * y;
+    ++used;
+  }
+  partial_fit fit = {1.0, NAN};
+  if (used == 0) return fit;
+  fit.scale = sqrt(sy / sw);
+  double determinant = sw * sxx - sx * sx;
+  if (used < 3 || !(determinant > 0.0)) return fit;
+  double slope = (sw * sxy - sx * sy) / determinant;
+  double intercept = (sy - slope * sx) / sw;
+  /* Residual variance of the weighted fit gives the slope's standard error. */
+  double residual = 0.0;
+  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
+    if (!(weight[k] > 0.0)) continue;
+    double n = k + 1, y = ratio[k] / weight[k];
+    double e = y * y - intercept - slope * n * n;
+    residual += weight[k] * n * n * e * e;
+  }
+  double slope_se = sqrt(residual / (used - 2) * sw / determinant);
+  fit.b = slope > 0.0 && intercept > 0.0 ? slope / intercept : 0.0;
+  if (slope > 0.0 && intercept > 0.0 && slope > 3.0 * slope_se)
+    fit.scale = sqrt(intercept);
+  return fit;
+}
+
+static plumb_verdict judge(const measure_context *context, const plumb_note *note,
+                           bool vibrato) {
+  if (note->cents > context->tolerance_cents) return PLUMB_VERDICT_SHARP;
+  if (note->cents < -context->tolerance_cents) return PLUMB_VERDICT_FLAT;
+  if (!vibrato && note->spread_cents > UNSTEADY_SPREAD_FACTOR * context->tolerance_cents)
+    return PLUMB_VERDICT_UNSTEADY;
+  return PLUMB_VERDICT_IN_TUNE;
+}
+
+static double spread_of(const frame_record *frames, const steady_part *part,
+                        double centre_cents, double *sum_probability,
+                        double *sum_ratio, int *voiced) {
+  double sum = 0.0;
+  *sum_probability = *sum_ratio = 0.0;
+  *voiced = 0;
+  for (int i = part->first; i <= part->last; ++i) {
+    if (!frames[i].voiced) continue;
+    double d = frame_cents(&frames[i], part->reference_hz) - centre_cents;
+    sum += d * d;
+    *sum_probability += frames[i].voiced_probability;
+    *sum_ratio += frames[i].harmonic_ratio;
+    ++*voiced;
+  }
+  return *voiced > 1 ? sqrt(sum / (*voiced - 1)) : NAN;
+}
+
+static void measure_drift_and_vibrato(const measure_context *context,
+                                      const double *cents, int n,
+                                      double *scratch, vibrato_reading *vibrato,
+                                      double *drift) {
+  double *times = scratch, *residual = scratch + n;
+  for (int i = 0; i < n; ++i) times[i] = i * context->hop_s;
+  double intercept = 0.0, slope = 0.0;
+  stats_line_fit(times, cents, n, &intercept, &slope);
+  for (int i = 0; i < n; ++i) residual[i] = cents[i] - intercept - slope * times[i];
+  memset(vibrato, 0, sizeof *vibrato);
+  if (vibrato_is_periodic(residual, n, context->hop_s))
+    measure_cycles(cents, residual, n, context->hop_s, context->frame_s, vibrato);
+  if (vibrato->present) {
+    /* Over whole cycles the vibrato does not tilt the line. */
+    int from = (int)ceil(vibrato->first_s / context->hop_s);
+    int to = (int)floor(vibrato->last_s / context->hop_s);
+    if (to - from >= 2)
+      stats_line_fit(times + from, cents + from, to - from + 1, &intercept, &slope);
+  }
+  *drift = slope;
+}
+
+void note_measure(const measure_context *context, const frame_record *frames,
+                  int count, double *scratch, plumb_note *note) {
+  clear_note(note);
+  note->start_s = (double)frames[0].centre_sample / context->sample_rate_hz;
+  note->end_s = (double)frames[count - 1].centre_sample / context->sample_rate_hz +
+                0.5 * context->hop_s;
+  float peak = 0.0f;
+  int voiced = 0;
+  for (int i = 0; i < count; ++i) {
+    if (frames[i].peak > peak) peak = frames[i].peak;
+    voiced += frames[i].voiced;
+  }
+  note->peak_dbfs = peak > 0.0f ? 20.0 * log10(peak) : -INFINITY;
+  steady_part part;
+  if (voiced < 3 || voiced < MIN_VOICED_FRACTION * count ||
+      !find_steady_part(frames, count, scratch, &part)) {
+    leave_unpitched(note);
+    return;
+  }
+  double *cents = scratch;
+  int n = uniform_cents(frames, &part, cents);
+  vibrato_reading vibrato;
+  measure_drift_and_vibrato(context, cents, n, scratch + n, &vibrato,
+                            &note->drift_cents_per_s);
+  double centre_cents = vibrato.present ? vibrato.centre_cents
+                                        : robust_mean(cents, n, scratch + n);
+  double sum_probability, sum_ratio;
+  int steady_voiced;
+  note->spread_cents = spread_of(frames, &part, centre_cents, &sum_probability,
+                                 &sum_ratio, &steady_voiced);
+  if (sum_ratio / steady_voiced < MIN_HARMONIC_RATIO) {
+    leave_unpitched(note);
+    return;
+  }
+  if (vibrato.present) {
+    note->vibrato_hz = vibrato.rate_hz;
+    note->vibrato_cents = vibrato.extent_cents;
+  }
+  partial_fit fit = fit_partials(frames, &part);
+  note->inharmonicity_b = fit.b;
+  note->f0_hz = fit.scale * part.reference_hz * exp2(centre_cents / 1200.0);
+  note->midi = plumb_tuning_nearest(&context->tuning, note->f0_hz,
+                                    &note->target_hz, &note->cents);
+  note->confidence = (sum_probability / steady_voiced) * (sum_ratio / steady_voiced);
+  note->verdict = judge(context, note, vibrato.present);
+}

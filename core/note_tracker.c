@@ -1,0 +1,241 @@
+/*
+  Splits the stream of decided frames into notes.
+
+  A note starts at an onset (a peak of the band-wise spectral flux) or where
+  voicing begins above the level gate. It ends where the level falls away,
+  where voicing is lost, at the next onset (a re-articulation, also at the
+  same pitch), or where the pitch moves to a new level and stays there for
+  the minimum note length (legato). A move that comes before the note has
+  lasted the minimum length is an attack scoop: it stays in the note, and the
+  note's reference pitch follows the new level.
+*/
+#include "internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Levels and thresholds below are common practice, no source; they were
+   set on the project's synthetic and sampled test takes. */
+#define GATE_DBFS (-60.0)          /* below this a frame is silence */
+#define RELEASE_DROP_DB 40.0       /* a note has ended this far below its peak */
+#define QUIET_FRAMES_TO_END 2
+#define UNVOICED_FRAMES_TO_END 3
+#define ONSET_MIN_DB 2.5           /* mean band rise over two hops */
+#define ONSET_ABOVE_RECENT_DB 1.5  /* above the recent mean of the function */
+#define PITCH_CHANGE_CENTS 50.0
+#define SMOOTHING_S 0.15           /* about one vibrato cycle */
+#define REFERENCE_SKIP_FRAMES 2    /* attack frames kept out of the reference */
+
+plumb_status note_tracker_init(note_tracker *tracker) {
+  memset(tracker, 0, sizeof *tracker);
+  tracker->frames = malloc(sizeof(frame_record) * PLUMB_NOTE_FRAMES_MAX);
+  return tracker->frames ? PLUMB_OK : PLUMB_ERR_MEMORY;
+}
+
+void note_tracker_destroy(note_tracker *tracker) {
+  free(tracker->frames);
+  tracker->frames = NULL;
+}
+
+void note_tracker_set_min_note(note_tracker *tracker, double min_note_ms) {
+  int frames = (int)ceil(min_note_ms / 1000.0 / tracker->hop_s);
+  tracker->min_note_frames = frames < 2 ? 2 : frames;
+}
+
+void note_tracker_reset(note_tracker *tracker, double hop_s,
+                        double min_note_ms) {
+  frame_record *frames = tracker->frames;
+  memset(tracker, 0, sizeof *tracker);
+  tracker->frames = frames;
+  tracker->hop_s = hop_s;
+  tracker->reference_midi = NAN;
+  tracker->previous_onset_db = INFINITY;
+  note_tracker_set_min_note(tracker, min_note_ms);
+}
+
+static double frame_midi(const frame_record *frame) {
+  return 69.0 + 12.0 * log2(frame->f0_hz / 440.0);
+}
+
+static void start_note(note_tracker *tracker, const frame_record *frame) {
+  tracker->active = true;
+  tracker->count = 0;
+  tracker->reference_midi = NAN;
+  tracker->reference_sum = 0.0;
+  tracker->reference_n = 0;
+  tracker->unvoiced_run = 0;
+  tracker->quiet_run = 0;
+  tracker->change_run = 0;
+  tracker->peak_level_dbfs = frame->level_dbfs;
+  tracker->frames[tracker->count++] = *frame;
+}
+
+/* Hand frames [0, count) to the sink and keep [count, end) as the start of
+   the next note (only the legato split keeps any). */
+static void close_note(note_tracker *tracker, int count, note_sink sink,
+                       void *context) {
+  if (count > 0) sink(context, tracker->frames, count);
+  int kept = tracker->count - count;
+  if (kept > 0)
+    memmove(tracker->frames, tracker->frames + count,
+            sizeof(frame_record) * (size_t)kept);
+  tracker->count = kept > 0 ? kept : 0;
+  tracker->active = kept > 0;
+}
+
+static void rebuild_reference(note_tracker *tracker, int from) {
+  tracker->reference_sum = 0.0;
+  tracker->reference_n = 0;
+  for (int i = from; i < tracker->count; ++i)
+    if (tracker->frames[i].voiced) {
+      tracker->reference_sum += frame_midi(&tracker->frames[i]);
+      tracker->reference_n++;
+    }
+  tracker->reference_midi = tracker->reference_n > 0
+                                ? tracker->reference_sum / tracker->reference_n
+                                : NAN;
+  tracker->change_run = 0;
+}
+
+static double smoothed_midi(const note_tracker *tracker) {
+  int span = (int)lround(SMOOTHING_S / tracker->hop_s);
+  double sum = 0.0;
+  int n = 0;
+  for (int i = tracker->count - 1; i >= 0 && n < span; --i)
+    if (tracker->frames[i].voiced) {
+      sum += frame_midi(&tracker->frames[i]);
+      ++n;
+    }
+  return n > 0 ? sum / n : NAN;
+}
+
+/* First frame of the current run of frames away from the reference. */
+static int change_start(const note_tracker *tracker) {
+  int i = tracker->count - 1;
+  while (i > 0) {
+    const frame_record *f = &tracker->frames[i - 1];
+    if (!f->voiced ||
+        fabs(frame_midi(f) - tracker->reference_midi) * 100.0 <= PITCH_CHANGE_CENTS)
+      break;
+    --i;
+  }
+  return i;
+}
+
+static void follow_pitch(note_tracker *tracker, const frame_record *frame,
+                         note_sink sink, void *context) {
+  if (!frame->voiced) return;
+  if (tracker->reference_n < 3) {
+    if (tracker->count > REFERENCE_SKIP_FRAMES) {
+      tracker->reference_sum += frame_midi(frame);
+      tracker->reference_n++;
+      tracker->reference_midi = tracker->reference_sum / tracker->reference_n;
+    }
+    return;
+  }
+  double away_cents = fabs(smoothed_midi(tracker) - tracker->reference_midi) * 100.0;
+  if (away_cents <= PITCH_CHANGE_CENTS) {
+    tracker->change_run = 0;
+    tracker->reference_sum += frame_midi(frame);
+    tracker->reference_n++;
+    tracker->reference_midi = tracker->reference_sum / tracker->reference_n;
+    return;
+  }
+  if (++tracker->change_run < tracker->min_note_frames) return;
+  int split = change_start(tracker);
+  if (split < tracker->min_note_frames) {
+    rebuild_reference(tracker, split); /* an attack scoop */
+    return;
+  }
+  close_note(tracker, split, sink, context);
+  rebuild_reference(tracker, 0);
+}
+
+static void track_frame(note_tracker *tracker, const frame_record *frame,
+                        bool onset, note_sink sink, void *context) {
+  bool quiet = frame->level_dbfs < GATE_DBFS;
+  if (!tracker->active) {
+    if (!quiet && (onset || frame->voiced)) start_note(tracker, frame);
+    return;
+  }
+  if (onset && tracker->count >= tracker->min_note_frames) {
+    close_note(tracker, tracker->count, sink, context);
+    start_note(tracker, frame);
+    return;
+  }
+  if (tracker->count >= PLUMB_NOTE_FRAMES_MAX) {
+    close_note(tracker, tracker->count, sink, context); /* very long note */
+    start_note(tracker, frame);
+    return;
+  }
+  quiet = quiet || frame->level_dbfs < tracker->peak_level_dbfs - RELEASE_DROP_DB;
+  if (frame->level_dbfs > tracker->peak_level_dbfs)
+    tracker->peak_level_dbfs = frame->level_dbfs;
+  tracker->quiet_run = quiet ? tracker->quiet_run + 1 : 0;
+  tracker->unvoiced_run = frame->voiced ? 0 : tracker->unvoiced_run + 1;
+  tracker->frames[tracker->count++] = *frame;
+  if (tracker->quiet_run >= QUIET_FRAMES_TO_END) {
+    close_note(tracker, tracker->count - tracker->quiet_run, sink, context);
+    tracker->active = false;
+    return;
+  }
+  bool pitched = tracker->reference_n >= 3;
+  if (pitched && tracker->unvoiced_run >= UNVOICED_FRAMES_TO_END) {
+    close_note(tracker, tracker->count - tracker->unvoiced_run, sink, context);
+    tracker->active = false;
+    return;
+  }
+  follow_pitch(tracker, frame, sink, context);
+}
+
+/* An onset is a peak of the detection function that stands above both a
+   fixed floor and the function's recent mean. */
+static bool is_onset(note_tracker *tracker, const frame_record *frame,
+                     const frame_record *next) {
+  double recent = 0.0;
+  for (int i = 0; i < tracker->onset_history_n; ++i)
+    recent += tracker->onset_history[i];
+  if (tracker->onset_history_n > 0) recent /= tracker->onset_history_n;
+  bool peak = frame->onset_db >= tracker->previous_onset_db &&
+              (!next || frame->onset_db > next->onset_db);
+  return peak && frame->onset_db >= ONSET_MIN_DB &&
+         frame->onset_db >= recent + ONSET_ABOVE_RECENT_DB;
+}
+
+static void remember_onset_value(note_tracker *tracker, double value) {
+  const int capacity = (int)(sizeof tracker->onset_history /
+                             sizeof tracker->onset_history[0]);
+  if (tracker->onset_history_n < capacity) {
+    tracker->onset_history[tracker->onset_history_n++] = value;
+  } else {
+    memmove(tracker->onset_history, tracker->onset_history + 1,
+            sizeof(double) * (size_t)(capacity - 1));
+    tracker->onset_history[capacity - 1] = value;
+  }
+  tracker->previous_onset_db = value;
+}
+
+void note_tracker_push(note_tracker *tracker, const frame_record *frame,
+                       note_sink sink, void *context) {
+  if (tracker->has_pending) {
+    frame_record current = tracker->pending;
+    bool onset = is_onset(tracker, &current, frame);
+    remember_onset_value(tracker, current.onset_db);
+    track_frame(tracker, &current, onset, sink, context);
+  }
+  tracker->pending = *frame;
+  tracker->has_pending = true;
+}
+
+void note_tracker_flush(note_tracker *tracker, note_sink sink, void *context) {
+  if (tracker->has_pending) {
+    frame_record current = tracker->pending;
+    bool onset = is_onset(tracker, &current, NULL);
+    track_frame(tracker, &current, onset, sink, context);
+    tracker->has_pending = false;
+  }
+  if (tracker->active) close_note(tracker, tracker->count, sink, context);
+  tracker->active = false;
+  tracker->count = 0;
+}

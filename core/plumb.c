@@ -1,0 +1,220 @@
+/*
+  The analyser: an input FIFO that runs a fixed hop whatever the host's
+  block sizes, and per hop the frame analysis (spectrum, YIN, candidates),
+  the online pitch/voicing decoder, the harmonic refinement of the decided
+  frame, the note tracker and the note measures.
+*/
+#include "analyser.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+void plumb_settings_default(plumb_settings *settings, double sample_rate_hz) {
+  plumb_tuning_spec spec;
+  plumb_tuning_spec_default(&spec);
+  memset(settings, 0, sizeof *settings);
+  settings->sample_rate_hz = sample_rate_hz;
+  plumb_tuning_build(&spec, &settings->tuning);
+  settings->tolerance_cents = 10.0;
+  settings->lowest_midi = 28;
+  settings->highest_midi = 96;
+  settings->min_note_ms = 80.0;
+}
+
+static int next_power_of_two(int n) {
+  int p = 1;
+  while (p < n) p *= 2;
+  return p;
+}
+
+static double midi_hz(double midi) { return 440.0 * exp2((midi - 69.0) / 12.0); }
+
+/* Lags searched for the settings' range, with a semitone of margin. */
+static void set_search_range(plumb *self) {
+  double sr = self->settings.sample_rate_hz;
+  self->lag_min = (int)floor(sr / midi_hz(self->settings.highest_midi + 1.0));
+  self->lag_max = (int)ceil(sr / midi_hz(self->settings.lowest_midi - 1.0));
+  if (self->lag_max > self->yin.lag_max_samples)
+    self->lag_max = self->yin.lag_max_samples;
+}
+
+static bool settings_valid(const plumb_settings *s) {
+  return s && isfinite(s->tolerance_cents) && s->tolerance_cents > 0.0 &&
+         isfinite(s->min_note_ms) && s->min_note_ms > 0.0 &&
+         isfinite(s->tuning.reference_hz) && s->tuning.reference_hz > 0.0 &&
+         s->lowest_midi <= s->highest_midi;
+}
+
+static void apply_settings(plumb *self, const plumb_settings *settings) {
+  double sample_rate_hz = self->settings.sample_rate_hz;
+  self->settings = *settings;
+  self->settings.sample_rate_hz = sample_rate_hz;
+  if (self->settings.lowest_midi < LOWEST_SUPPORTED_MIDI)
+    self->settings.lowest_midi = LOWEST_SUPPORTED_MIDI;
+  if (self->settings.highest_midi > HIGHEST_SUPPORTED_MIDI)
+    self->settings.highest_midi = HIGHEST_SUPPORTED_MIDI;
+  set_search_range(self);
+  self->measure.tuning = self->settings.tuning;
+  self->measure.tolerance_cents = self->settings.tolerance_cents;
+  note_tracker_set_min_note(&self->tracker, self->settings.min_note_ms);
+}
+
+static plumb_status allocate(plumb *self) {
+  double sr = self->settings.sample_rate_hz;
+  int yin_window = (int)lround(YIN_WINDOW_S * sr);
+  int lag_limit = (int)ceil(sr / midi_hz(LOWEST_SUPPORTED_MIDI - 1.0)) + 2;
+  self->fft_size = next_power_of_two(yin_window + lag_limit + 2);
+  self->hop = self->fft_size / HOP_DIVISOR;
+  plumb_status status = yin_init(&self->yin, self->fft_size, yin_window, lag_limit);
+  if (status == PLUMB_OK) status = spectrum_init(&self->spectrum, self->fft_size, sr);
+  if (status == PLUMB_OK) status = note_tracker_init(&self->tracker);
+  if (status == PLUMB_OK) status = note_queue_init(&self->queue);
+  if (status != PLUMB_OK) return status;
+  self->window = fftwf_alloc_real((size_t)self->fft_size);
+  self->scratch = malloc(sizeof(double) * 4 * PLUMB_NOTE_FRAMES_MAX);
+  if (!self->window || !self->scratch) return PLUMB_ERR_MEMORY;
+  for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) {
+    self->spectra[i] = fftwf_alloc_complex((size_t)self->fft_size / 2 + 1);
+    if (!self->spectra[i]) return PLUMB_ERR_MEMORY;
+  }
+  return PLUMB_OK;
+}
+
+plumb *plumb_new(const plumb_settings *settings, plumb_status *status) {
+  plumb_status result = PLUMB_OK;
+  plumb *self = NULL;
+  if (!settings_valid(settings)) result = PLUMB_ERR_ARGUMENT;
+  else if (!(settings->sample_rate_hz >= MIN_SAMPLE_RATE_HZ &&
+             settings->sample_rate_hz <= MAX_SAMPLE_RATE_HZ))
+    result = PLUMB_ERR_SAMPLE_RATE;
+  else if (!(self = calloc(1, sizeof *self))) result = PLUMB_ERR_MEMORY;
+  if (self) {
+    self->settings.sample_rate_hz = settings->sample_rate_hz;
+    result = allocate(self);
+    if (result == PLUMB_OK) {
+      pitch_prob_thresholds(self->threshold_weights);
+      self->measure.sample_rate_hz = settings->sample_rate_hz;
+      self->measure.fft_size = self->fft_size;
+      self->measure.hop = self->hop;
+      self->measure.hop_s = self->hop / settings->sample_rate_hz;
+      self->measure.frame_s = self->fft_size / settings->sample_rate_hz;
+      note_tracker_reset(&self->tracker, self->measure.hop_s, settings->min_note_ms);
+      apply_settings(self, settings);
+      plumb_reset(self);
+    } else {
+      plumb_free(self);
+      self = NULL;
+    }
+  }
+  if (status) *status = result;
+  return self;
+}
+
+void plumb_free(plumb *self) {
+  if (!self) return;
+  yin_destroy(&self->yin);
+  spectrum_destroy(&self->spectrum);
+  note_tracker_destroy(&self->tracker);
+  note_queue_destroy(&self->queue);
+  for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) fftwf_free(self->spectra[i]);
+  fftwf_free(self->window);
+  free(self->scratch);
+  free(self);
+}
+
+void plumb_reset(plumb *self) {
+  if (!self) return;
+  memset(self->window, 0, sizeof(float) * (size_t)self->fft_size);
+  self->pending = 0;
+  self->samples_in = 0;
+  self->frames_analysed = 0;
+  viterbi_reset(&self->decoder);
+  note_tracker_reset(&self->tracker, self->measure.hop_s, self->settings.min_note_ms);
+  timeline_reset(&self->timeline);
+  self->next_index = 0;
+  memset(&self->live, 0, sizeof self->live);
+  self->live.midi = -1;
+  self->live.f0_hz = self->live.cents = NAN;
+  memset(&self->counts, 0, sizeof self->counts);
+  /* Completed notes stay queued: a consumer may be reading them. */
+}
+
+plumb_status plumb_configure(plumb *self, const plumb_settings *settings) {
+  if (!self || !settings_valid(settings)) return PLUMB_ERR_ARGUMENT;
+  apply_settings(self, settings);
+  return PLUMB_OK;
+}
+
+/* ---------------------------------------------------------------- process */
+
+void plumb_process(plumb *self, const float *samples, size_t n_frames) {
+  if (!self || (!samples && n_frames > 0)) return;
+  const int keep = self->fft_size - self->hop;
+  size_t i = 0;
+  while (i < n_frames) {
+    size_t room = (size_t)(self->hop - self->pending);
+    size_t take = n_frames - i < room ? n_frames - i : room;
+    float *destination = self->window + keep + self->pending;
+    for (size_t j = 0; j < take; ++j) {
+      float x = samples[i + j];
+      if (!isfinite(x)) {
+        x = 0.0f; /* NaN and Inf never reach the analysis state */
+        self->counts.bad_samples++;
+      } else if (x > SAMPLE_LIMIT) x = SAMPLE_LIMIT;
+      else if (x < -SAMPLE_LIMIT) x = -SAMPLE_LIMIT;
+      destination[j] = x;
+    }
+    self->pending += (int)take;
+    self->samples_in += take;
+    i += take;
+    if (self->pending == self->hop) {
+      analyser_process_hop(self);
+      memmove(self->window, self->window + self->hop, sizeof(float) * (size_t)keep);
+      self->pending = 0;
+    }
+  }
+}
+
+void plumb_finish(plumb *self) {
+  if (!self) return;
+  static const float silence[256];
+  /* Enough silence to push the last sound through the frame, the decoder's
+     lag and the tracker's look-ahead. */
+  long remaining = self->fft_size + (PLUMB_DECODE_LAG + 3L) * self->hop;
+  while (remaining > 0) {
+    size_t n = remaining < 256 ? (size_t)remaining : 256;
+    plumb_process(self, silence, n);
+    remaining -= (long)n;
+  }
+  analyser_flush(self);
+}
+
+void plumb_mark_timeline(plumb *self, double position_s, double speed) {
+  if (self) timeline_mark(&self->timeline, self->samples_in, position_s, speed);
+}
+
+/* ---------------------------------------------------------------- query */
+
+bool plumb_pop_note(plumb *self, plumb_note *note) {
+  return self && note && note_queue_pop(&self->queue, note);
+}
+
+void plumb_get_live(const plumb *self, plumb_live *live) {
+  if (self && live) *live = self->live;
+}
+
+void plumb_get_counts(const plumb *self, plumb_counts *counts) {
+  if (self && counts) *counts = self->counts;
+}
+
+uint32_t plumb_analysis_delay_frames(const plumb *self) {
+  if (!self) return 0;
+  return (uint32_t)(self->fft_size / 2 + PLUMB_DECODE_LAG * self->hop);
+}
+
+uint32_t plumb_hop_frames(const plumb *self) { return self ? (uint32_t)self->hop : 0; }
+
+uint32_t plumb_frame_frames(const plumb *self) {
+  return self ? (uint32_t)self->fft_size : 0;
+}

@@ -1,0 +1,133 @@
+/*
+  One hop of analysis. The newest frame is transformed, searched for pitch
+  candidates and pushed into the decoder; the frame PLUMB_DECODE_LAG hops
+  older is then decided, refined from its harmonics and handed to the note
+  tracker. Nothing here allocates, locks or calls the system.
+*/
+#include "analyser.h"
+
+#include <math.h>
+#include <string.h>
+
+static int ring_slot(uint64_t frame) { return (int)(frame % PLUMB_SPECTRUM_RING); }
+
+/* Mean rise of the band levels over two hops: a band-wise spectral flux,
+   half-wave rectified (in the manner of Bello et al. 2005). */
+static double onset_function(const plumb *self, int slot, int slot_before) {
+  int bands = self->spectrum.band_count;
+  if (bands == 0) return 0.0;
+  double rise = 0.0;
+  for (int b = 0; b < bands; ++b) {
+    double d = self->band_db[slot][b] - self->band_db[slot_before][b];
+    if (d > 0.0) rise += d;
+  }
+  return rise / bands;
+}
+
+static float centre_peak(const plumb *self) {
+  int from = self->fft_size / 2 - self->hop / 2;
+  float peak = 0.0f;
+  for (int i = from; i < from + self->hop; ++i) {
+    float a = fabsf(self->window[i]);
+    if (a > peak) peak = a;
+  }
+  return peak;
+}
+
+static void analyse_newest(plumb *self, candidate_set *candidates) {
+  uint64_t frame = self->frames_analysed;
+  int slot = ring_slot(frame);
+  spectrum_transform(&self->spectrum, self->window, self->spectra[slot]);
+  spectrum_levels(&self->spectrum, self->spectra[slot], self->band_db[slot],
+                  &self->level_dbfs[slot]);
+  self->onset_db[slot] = frame >= 2 ? onset_function(self, slot, ring_slot(frame - 2)) : 0.0;
+  self->peak[slot] = centre_peak(self);
+  uint64_t end = self->samples_in;
+  uint64_t half = (uint64_t)self->fft_size / 2;
+  self->centre_sample[slot] = end > half ? end - half : 0;
+  memset(candidates, 0, sizeof *candidates);
+  if (self->level_dbfs[slot] < SEARCH_GATE_DBFS) return;
+  yin_trough troughs[64];
+  int count = yin_analyse(&self->yin, self->window, self->lag_min, self->lag_max,
+                          troughs, 64);
+  pitch_prob_candidates(self->threshold_weights, troughs, count,
+                        self->settings.sample_rate_hz, candidates);
+}
+
+static bool in_range(const plumb *self, double f0_hz) {
+  double lowest = 440.0 * exp2((self->settings.lowest_midi - 70.0) / 12.0);
+  double highest = 440.0 * exp2((self->settings.highest_midi - 68.0) / 12.0);
+  return f0_hz >= lowest && f0_hz <= highest;
+}
+
+static void decide_frame(plumb *self, frame_record *record) {
+  uint64_t frame = self->frames_analysed - PLUMB_DECODE_LAG;
+  int slot = ring_slot(frame);
+  int state = viterbi_decide(&self->decoder, PLUMB_DECODE_LAG);
+  const candidate_set *candidates = viterbi_frame(&self->decoder, PLUMB_DECODE_LAG);
+  memset(record, 0, sizeof *record);
+  record->centre_sample = self->centre_sample[slot];
+  record->level_dbfs = self->level_dbfs[slot];
+  record->onset_db = self->onset_db[slot];
+  record->peak = self->peak[slot];
+  record->voiced_probability = candidates->voiced_probability;
+  record->f0_hz = NAN;
+  if (state == 0 || frame == 0) return;
+  harmonic_fit fit;
+  bool found = harmonics_refine(self->spectra[slot], self->spectra[ring_slot(frame - 1)],
+                                self->fft_size, self->hop, self->settings.sample_rate_hz,
+                                candidates->candidate[state - 1].frequency_hz,
+                                &record->harmonics, &fit);
+  record->harmonic_ratio = fit.harmonic_ratio;
+  if (found && fit.harmonic_ratio >= MIN_HARMONIC_RATIO && in_range(self, fit.f0_hz)) {
+    record->voiced = true;
+    record->f0_hz = fit.f0_hz;
+  }
+}
+
+static void update_live(plumb *self, const frame_record *record) {
+  plumb_live *live = &self->live;
+  live->time_s = (double)record->centre_sample / self->settings.sample_rate_hz;
+  live->voiced = record->voiced;
+  if (!record->voiced) {
+    live->midi = -1;
+    live->f0_hz = live->cents = NAN;
+    live->confidence = 0.0;
+    return;
+  }
+  live->f0_hz = record->f0_hz;
+  live->midi = plumb_tuning_nearest(&self->settings.tuning, record->f0_hz, NULL,
+                                    &live->cents);
+  live->confidence = record->voiced_probability * record->harmonic_ratio;
+}
+
+/* The tracker's sink: measure the note and queue it. */
+static void complete_note(void *context, const frame_record *frames, int count) {
+  plumb *self = context;
+  plumb_note note;
+  note_measure(&self->measure, frames, count, self->scratch, &note);
+  note.index = self->next_index++;
+  note.timeline_s = timeline_position(&self->timeline, frames[0].centre_sample,
+                                      self->settings.sample_rate_hz);
+  self->counts.notes++;
+  if (plumb_verdict_is_flagged(note.verdict)) self->counts.flagged++;
+  self->counts.last_note = note;
+  self->counts.has_last = true;
+  if (!note_queue_push(&self->queue, &note)) self->counts.dropped++;
+}
+
+void analyser_process_hop(plumb *self) {
+  candidate_set candidates;
+  analyse_newest(self, &candidates);
+  viterbi_push(&self->decoder, &candidates);
+  self->frames_analysed++;
+  if (self->frames_analysed <= PLUMB_DECODE_LAG) return;
+  frame_record record;
+  decide_frame(self, &record);
+  update_live(self, &record);
+  note_tracker_push(&self->tracker, &record, complete_note, self);
+}
+
+void analyser_flush(plumb *self) {
+  note_tracker_flush(&self->tracker, complete_note, self);
+}
