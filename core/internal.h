@@ -202,6 +202,7 @@ typedef struct {
   int quiet_run;
   int change_run;          /* frames the smoothed pitch has left the note */
   double peak_level_dbfs;
+  double idle_floor_dbfs;  /* a release must not restart a note */
   double onset_history[16];
   int onset_history_n;
   frame_record pending;    /* one frame of look-ahead for onset peaks */

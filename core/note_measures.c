@@ -54,10 +54,24 @@ typedef struct {
   double reference_hz;  /* cents are measured from here */
 } steady_part;
 
-static bool find_steady_part(const frame_record *frames, int count,
-                             double *scratch, steady_part *part) {
-  int first = count > 3 * EDGE_TRIM_FRAMES ? EDGE_TRIM_FRAMES : 0;
-  int last = count - 1 - first;
+static bool find_steady_part(const measure_context *context,
+                             const frame_record *frames, int count,
+                             double start_s, double end_s, double *scratch,
+                             steady_part *part) {
+  /* Frames whose window reaches over the note's start or end by more than
+     a quarter of its length see the neighbouring sound too. */
+  double margin_s = 0.25 * context->frame_s;
+  int first = 0, last = count - 1;
+  while (first < last &&
+         (double)frames[first].centre_sample / context->sample_rate_hz < start_s + margin_s)
+    ++first;
+  while (last > first &&
+         (double)frames[last].centre_sample / context->sample_rate_hz > end_s - margin_s)
+    --last;
+  if (last - first < 2) {
+    first = count > 3 * EDGE_TRIM_FRAMES ? EDGE_TRIM_FRAMES : 0;
+    last = count - 1 - first;
+  }
   int n = 0;
   for (int i = first; i <= last; ++i)
     if (frames[i].voiced) scratch[n++] = frames[i].f0_hz;
@@ -105,7 +119,8 @@ typedef struct {
   double rate_hz;
   double extent_cents;
   double centre_cents; /* mean over whole cycles */
-  double first_s, last_s;
+  bool has_cycle_drift;
+  double cycle_drift_cents_per_s;
 } vibrato_reading;
 
 static double normalised_correlation(const double *x, int n, int lag) {
@@ -159,34 +174,42 @@ static double window_attenuation(double rate_hz, double frame_s, double hop_s) {
   return fabs(hann * hop);
 }
 
+/* Mean of a sampled curve between fractional indices a < b (trapezoids,
+   ends interpolated). */
+static double mean_between(const double *x, double a, double b) {
+  int ia = (int)floor(a), ib = (int)floor(b);
+  double xa = x[ia] + (x[ia + 1] - x[ia]) * (a - ia);
+  double xb = x[ib] + (x[ib + 1] - x[ib]) * (b - ib);
+  if (ia == ib) return 0.5 * (xa + xb);
+  double area = 0.5 * (xa + x[ia + 1]) * (ia + 1 - a);
+  for (int i = ia + 1; i < ib; ++i) area += 0.5 * (x[i] + x[i + 1]);
+  area += 0.5 * (x[ib] + xb) * (b - ib);
+  return area / (b - a);
+}
+
+#define MAX_CYCLES 256
+
 static void measure_cycles(const double *cents, const double *residual, int n,
                            double hop_s, double frame_s, vibrato_reading *v) {
-  double crossing[256];
+  double crossing[MAX_CYCLES + 1];
   int crossings = 0;
-  for (int i = 0; i + 1 < n && crossings < 256; ++i)
+  for (int i = 0; i + 1 < n && crossings <= MAX_CYCLES; ++i)
     if (residual[i] < 0.0 && residual[i + 1] >= 0.0)
       crossing[crossings++] =
           i + residual[i] / (residual[i] - residual[i + 1]); /* in frames */
   if (crossings < 2) return;
-  double cycles = crossings - 1;
-  v->rate_hz = cycles / ((crossing[crossings - 1] - crossing[0]) * hop_s);
-  /* Centre: the mean of the pitch over whole cycles (trapezoids, with the
-     ends interpolated at the crossings). */
-  double area = 0.0;
-  double a = crossing[0], b = crossing[crossings - 1];
-  int ia = (int)floor(a), ib = (int)floor(b);
-  double ca = cents[ia] + (cents[ia + 1] - cents[ia]) * (a - ia);
-  double cb = cents[ib] + (cents[ib + 1] - cents[ib]) * (b - ib);
-  if (ia == ib) area = 0.5 * (ca + cb) * (b - a);
-  else {
-    area += 0.5 * (ca + cents[ia + 1]) * (ia + 1 - a);
-    for (int i = ia + 1; i < ib; ++i) area += 0.5 * (cents[i] + cents[i + 1]);
-    area += 0.5 * (cents[ib] + cb) * (b - ib);
-  }
-  v->centre_cents = area / (b - a);
-  /* Extent: half the swing of each cycle, averaged. */
+  int cycles = crossings - 1;
+  double a = crossing[0], b = crossing[cycles];
+  v->rate_hz = cycles / ((b - a) * hop_s);
+  /* Centre: the mean of the pitch over whole cycles. */
+  v->centre_cents = mean_between(cents, a, b);
+  /* Drift: a line through the cycle means, which the vibrato cannot tilt. */
+  double cycle_time[MAX_CYCLES], cycle_mean[MAX_CYCLES];
   double swing = 0.0;
-  for (int c = 0; c + 1 < crossings; ++c) {
+  for (int c = 0; c < cycles; ++c) {
+    cycle_time[c] = 0.5 * (crossing[c] + crossing[c + 1]) * hop_s;
+    cycle_mean[c] = mean_between(cents, crossing[c], crossing[c + 1]);
+    /* Extent: half the swing of each cycle, averaged. */
     int from = (int)ceil(crossing[c]), to = (int)floor(crossing[c + 1]);
     int hi = from, lo = from;
     for (int i = from; i <= to && i < n; ++i) {
@@ -196,9 +219,10 @@ static void measure_cycles(const double *cents, const double *residual, int n,
     swing += 0.5 * (interpolated_extreme(residual, n, hi) -
                     interpolated_extreme(residual, n, lo));
   }
+  double intercept;
+  v->has_cycle_drift = stats_line_fit(cycle_time, cycle_mean, cycles, &intercept,
+                                      &v->cycle_drift_cents_per_s);
   v->extent_cents = swing / cycles / window_attenuation(v->rate_hz, frame_s, hop_s);
-  v->first_s = a * hop_s;
-  v->last_s = b * hop_s;
   v->present = v->extent_cents >= VIBRATO_MIN_EXTENT_CENTS;
 }
 
@@ -320,22 +344,74 @@ static void measure_drift_and_vibrato(const measure_context *context,
   memset(vibrato, 0, sizeof *vibrato);
   if (vibrato_is_periodic(residual, n, context->hop_s))
     measure_cycles(cents, residual, n, context->hop_s, context->frame_s, vibrato);
-  if (vibrato->present) {
-    /* Over whole cycles the vibrato does not tilt the line. */
-    int from = (int)ceil(vibrato->first_s / context->hop_s);
-    int to = (int)floor(vibrato->last_s / context->hop_s);
-    if (to - from >= 2)
-      stats_line_fit(times + from, cents + from, to - from + 1, &intercept, &slope);
-  }
+  if (vibrato->present && vibrato->has_cycle_drift)
+    slope = vibrato->cycle_drift_cents_per_s;
   *drift = slope;
+}
+
+/*
+  Onset and offset times from the frame levels. The level of a Hann-windowed
+  frame is half (-3 dB) its full value when a sudden start or stop sits at
+  the frame centre, so the -3 dB crossings of the level, interpolated
+  between frames, place a note's ends free of the window's length.
+*/
+#define EDGE_SEARCH_FRAMES 12
+#define EDGE_MIN_RISE_DB 6.0
+#define EDGE_RELEASED_DB 20.0
+
+static double frame_time_s(const measure_context *context, const frame_record *f) {
+  return (double)f->centre_sample / context->sample_rate_hz;
+}
+
+static double crossing_time_s(const measure_context *context, const frame_record *a,
+                              const frame_record *b, double level) {
+  double span = b->level_dbfs - a->level_dbfs;
+  double fraction = span != 0.0 ? (level - a->level_dbfs) / span : 0.0;
+  if (fraction < 0.0) fraction = 0.0;
+  if (fraction > 1.0) fraction = 1.0;
+  return frame_time_s(context, a) + fraction * context->hop_s;
+}
+
+static double refine_start_s(const measure_context *context,
+                             const frame_record *frames, int count) {
+  int look = count < EDGE_SEARCH_FRAMES ? count : EDGE_SEARCH_FRAMES;
+  int top = 0;
+  for (int i = 1; i < look; ++i)
+    if (frames[i].level_dbfs > frames[top].level_dbfs) top = i;
+  double threshold = frames[top].level_dbfs - 3.0;
+  if (frames[top].level_dbfs - frames[0].level_dbfs < EDGE_MIN_RISE_DB)
+    return frame_time_s(context, &frames[0]);
+  int i = top;
+  while (i > 0 && frames[i - 1].level_dbfs >= threshold) --i;
+  if (i == 0) return frame_time_s(context, &frames[0]);
+  return crossing_time_s(context, &frames[i - 1], &frames[i], threshold);
+}
+
+static double refine_end_s(const measure_context *context,
+                           const frame_record *frames, int count) {
+  double fallback = frame_time_s(context, &frames[count - 1]) + 0.5 * context->hop_s;
+  double peak = frames[0].level_dbfs;
+  for (int i = 1; i < count; ++i)
+    if (frames[i].level_dbfs > peak) peak = frames[i].level_dbfs;
+  /* Only a note that has died away has an offset of its own; one cut by
+     the next note ends where that one starts. */
+  if (frames[count - 1].level_dbfs > peak - EDGE_RELEASED_DB) return fallback;
+  int from = count > EDGE_SEARCH_FRAMES ? count - EDGE_SEARCH_FRAMES : 0;
+  int top = from;
+  for (int i = from + 1; i < count; ++i)
+    if (frames[i].level_dbfs > frames[top].level_dbfs) top = i;
+  double threshold = frames[top].level_dbfs - 3.0;
+  for (int i = top + 1; i < count; ++i)
+    if (frames[i].level_dbfs < threshold)
+      return crossing_time_s(context, &frames[i - 1], &frames[i], threshold);
+  return fallback;
 }
 
 void note_measure(const measure_context *context, const frame_record *frames,
                   int count, double *scratch, plumb_note *note) {
   clear_note(note);
-  note->start_s = (double)frames[0].centre_sample / context->sample_rate_hz;
-  note->end_s = (double)frames[count - 1].centre_sample / context->sample_rate_hz +
-                0.5 * context->hop_s;
+  note->start_s = refine_start_s(context, frames, count);
+  note->end_s = refine_end_s(context, frames, count);
   float peak = 0.0f;
   int voiced = 0;
   for (int i = 0; i < count; ++i) {
@@ -345,7 +421,8 @@ void note_measure(const measure_context *context, const frame_record *frames,
   note->peak_dbfs = peak > 0.0f ? 20.0 * log10(peak) : -INFINITY;
   steady_part part;
   if (voiced < 3 || voiced < MIN_VOICED_FRACTION * count ||
-      !find_steady_part(frames, count, scratch, &part)) {
+      !find_steady_part(context, frames, count, note->start_s, note->end_s,
+                        scratch, &part)) {
     leave_unpitched(note);
     return;
   }

@@ -20,6 +20,7 @@
 #define GATE_DBFS (-60.0)          /* below this a frame is silence */
 #define RELEASE_DROP_DB 40.0       /* a note has ended this far below its peak */
 #define QUIET_FRAMES_TO_END 2
+#define RESTART_RISE_DB 3.0
 #define UNVOICED_FRAMES_TO_END 3
 #define ONSET_MIN_DB 2.5           /* mean band rise over two hops */
 #define ONSET_ABOVE_RECENT_DB 1.5  /* above the recent mean of the function */
@@ -51,6 +52,7 @@ void note_tracker_reset(note_tracker *tracker, double hop_s,
   tracker->hop_s = hop_s;
   tracker->reference_midi = NAN;
   tracker->previous_onset_db = INFINITY;
+  tracker->idle_floor_dbfs = -INFINITY;
   note_tracker_set_min_note(tracker, min_note_ms);
 }
 
@@ -156,7 +158,12 @@ static void track_frame(note_tracker *tracker, const frame_record *frame,
                         bool onset, note_sink sink, void *context) {
   bool quiet = frame->level_dbfs < GATE_DBFS;
   if (!tracker->active) {
-    if (!quiet && (onset || frame->voiced)) start_note(tracker, frame);
+    /* After a note has ended, its release is not a new note: only an onset
+       or a level back above the release floor starts one. */
+    if (quiet) tracker->idle_floor_dbfs = -INFINITY;
+    bool above_release = frame->level_dbfs > tracker->idle_floor_dbfs;
+    if (!quiet && (onset || (frame->voiced && above_release)))
+      start_note(tracker, frame);
     return;
   }
   if (onset && tracker->count >= tracker->min_note_frames) {
@@ -175,14 +182,17 @@ static void track_frame(note_tracker *tracker, const frame_record *frame,
   tracker->quiet_run = quiet ? tracker->quiet_run + 1 : 0;
   tracker->unvoiced_run = frame->voiced ? 0 : tracker->unvoiced_run + 1;
   tracker->frames[tracker->count++] = *frame;
-  if (tracker->quiet_run >= QUIET_FRAMES_TO_END) {
-    close_note(tracker, tracker->count - tracker->quiet_run, sink, context);
-    tracker->active = false;
-    return;
-  }
   bool pitched = tracker->reference_n >= 3;
-  if (pitched && tracker->unvoiced_run >= UNVOICED_FRAMES_TO_END) {
-    close_note(tracker, tracker->count - tracker->unvoiced_run, sink, context);
+  int tail = tracker->quiet_run >= QUIET_FRAMES_TO_END ? tracker->quiet_run
+             : pitched && tracker->unvoiced_run >= UNVOICED_FRAMES_TO_END
+                 ? tracker->unvoiced_run
+                 : 0;
+  if (tail > 0) {
+    /* What follows must rise above the note's release (or above where
+       it lost its pitch) to start a note without an onset. */
+    tracker->idle_floor_dbfs = fmax(tracker->peak_level_dbfs - RELEASE_DROP_DB,
+                                    frame->level_dbfs + RESTART_RISE_DB);
+    close_note(tracker, tracker->count - tail, sink, context);
     tracker->active = false;
     return;
   }

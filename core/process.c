@@ -12,12 +12,24 @@
 static int ring_slot(uint64_t frame) { return (int)(frame % PLUMB_SPECTRUM_RING); }
 
 /* Mean rise of the band levels over two hops: a band-wise spectral flux,
-   half-wave rectified (in the manner of Bello et al. 2005). */
+   half-wave rectified (in the manner of Bello et al. 2005). Two guards keep
+   note ends from reading as onsets: bands far below the loudest band (where
+   the splatter of a sudden stop lands) are left out, and the function is
+   zero unless the frame level itself rises. */
+#define ONSET_BAND_RANGE_DB 50.0
+#define ONSET_LEVEL_RISE_DB 0.5
+
 static double onset_function(const plumb *self, int slot, int slot_before) {
   int bands = self->spectrum.band_count;
   if (bands == 0) return 0.0;
+  if (self->level_dbfs[slot] < self->level_dbfs[slot_before] + ONSET_LEVEL_RISE_DB)
+    return 0.0;
+  float loudest = self->band_db[slot][0];
+  for (int b = 1; b < bands; ++b)
+    if (self->band_db[slot][b] > loudest) loudest = self->band_db[slot][b];
   double rise = 0.0;
   for (int b = 0; b < bands; ++b) {
+    if (self->band_db[slot][b] < loudest - ONSET_BAND_RANGE_DB) continue;
     double d = self->band_db[slot][b] - self->band_db[slot_before][b];
     if (d > 0.0) rise += d;
   }

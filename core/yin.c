@@ -22,7 +22,7 @@ plumb_status yin_init(yin_analyser *yin, int fft_size, int window_samples,
   yin->segment = fftwf_alloc_real((size_t)fft_size);
   yin->window_part = fftwf_alloc_real((size_t)fft_size);
   yin->correlation = fftwf_alloc_real((size_t)fft_size);
-  yin->energy_sum = fftw_malloc(sizeof(double) * (size_t)(fft_size + 1));
+  yin->energy_sum = fftwf_malloc(sizeof(double) * (size_t)(fft_size + 1));
   yin->cmndf = fftwf_alloc_real((size_t)lag_max_samples + 2);
   yin->spectrum_segment = fftwf_alloc_complex((size_t)bins);
   yin->spectrum_window = fftwf_alloc_complex((size_t)bins);
@@ -51,7 +51,7 @@ void yin_destroy(yin_analyser *yin) {
   fftwf_free(yin->segment);
   fftwf_free(yin->window_part);
   fftwf_free(yin->correlation);
-  fftw_free(yin->energy_sum);
+  fftwf_free(yin->energy_sum);
   fftwf_free(yin->cmndf);
   fftwf_free(yin->spectrum_segment);
   fftwf_free(yin->spectrum_window);
