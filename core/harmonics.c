@@ -28,15 +28,51 @@ static double wrap_phase(double phase) {
   return phase - 2.0 * M_PI * floor(phase / (2.0 * M_PI) + 0.5);
 }
 
-/* Instantaneous frequency, in bins, of bin k from the phase advance. */
+/* Instantaneous frequency, in bins, of bin k from the phase advance
+   arg(X_t conj(X_t-1)) less the advance expected of the bin centre. */
 static double vocoder_bin(const fftwf_complex *current,
                           const fftwf_complex *previous, int k, int fft_size,
                           int hop) {
-  double phase_now = atan2(current[k][1], current[k][0]);
-  double phase_before = atan2(previous[k][1], previous[k][0]);
+  double re = (double)current[k][0] * previous[k][0] + (double)current[k][1] * previous[k][1];
+  double im = (double)current[k][1] * previous[k][0] - (double)current[k][0] * previous[k][1];
   double expected = 2.0 * M_PI * k * hop / fft_size;
-  double deviation = wrap_phase(phase_now - phase_before - expected);
+  double deviation = wrap_phase(atan2(im, re) - expected);
   return k + deviation * fft_size / (2.0 * M_PI * hop);
+}
+
+/* A harmonic's frequency: the power-weighted mean of the instantaneous
+   frequencies of the bins around its peak, out to `radius` bins and down
+   to PEAK_RANGE below the peak. For a steady sinusoid every bin of the
+   main lobe reads the true frequency; for a swept one the weighted mean is
+   the spectrogram's local mean frequency, which weights the instantaneous
+   frequency by the squared window (Cohen 1995), whatever the sweep. */
+#define PEAK_RANGE 1e-3 /* 30 dB */
+
+static double harmonic_frequency_bins(const fftwf_complex *current,
+                                      const fftwf_complex *previous, int peak,
+                                      int radius, int fft_size, int hop,
+                                      double *power_sum) {
+  const int last_bin = fft_size / 2;
+  /* The phase advance over a hop reads frequencies unambiguously only
+     within fft_size / (2 hop) bins of a bin's centre. */
+  const double unambiguous_bins = fft_size / (2.0 * hop);
+  int reach = (int)floor(unambiguous_bins) - 1;
+  if (reach < 0) reach = 0;
+  if (radius > reach) radius = reach;
+  const double deviation_limit = fmin(2.0, unambiguous_bins - 0.5);
+  double peak_power = power_at(current, peak);
+  double weighted = 0.0, total = 0.0;
+  for (int k = peak - radius; k <= peak + radius; ++k) {
+    if (k < 1 || k >= last_bin) continue;
+    double p = power_at(current, k);
+    if (p < PEAK_RANGE * peak_power) continue;
+    double f = vocoder_bin(current, previous, k, fft_size, hop);
+    if (fabs(f - k) > deviation_limit) continue; /* a bin no partial drives */
+    weighted += p * f;
+    total += p;
+  }
+  *power_sum = total;
+  return total > 0.0 ? weighted / total : (double)peak;
 }
 
 /* The strongest local maximum within radius of `centre`; -1 if none. */
@@ -80,6 +116,10 @@ bool harmonics_refine(const fftwf_complex *current,
   const double limit_hz = fmin(FRAME_HARMONIC_LIMIT_HZ, 0.45 * sample_rate_hz);
   const int last_bin = fft_size / 2;
   const int spacing_radius = (int)floor(0.4 * f0_coarse_hz / bin_hz);
+  /* Bins that belong to one harmonic: up to 0.45 of the spacing away, so
+     that the neighbours' main lobes stay out. */
+  int lobe_radius = (int)floor(0.45 * f0_coarse_hz / bin_hz - 0.5);
+  if (lobe_radius < 1) lobe_radius = 1;
   double f0 = f0_coarse_hz;
   fit_sums sums = {0.0, 0.0};
   double harmonic_energy = 0.0;
@@ -98,19 +138,21 @@ bool harmonics_refine(const fftwf_complex *current,
     last_harmonic_bin = centre + radius;
     int k = find_peak(current, centre, radius, last_bin);
     if (k < 0) continue;
-    double frequency_bins = vocoder_bin(current, previous, k, fft_size, hop);
-    if (fabs(frequency_bins - k) > 1.0) continue; /* not a steady peak */
+    double power;
+    double frequency_bins = harmonic_frequency_bins(current, previous, k, lobe_radius,
+                                                    fft_size, hop, &power);
+    if (fabs(frequency_bins - k) > 1.5) continue; /* not a steady peak */
     double frequency_hz = frequency_bins * bin_hz;
-    double power = power_at(current, k);
     harmonics->frequency_hz[n - 1] = (float)frequency_hz;
     harmonics->amplitude[n - 1] = (float)sqrt(power);
-    harmonic_energy += peak_energy(current, k, last_bin);
+    harmonic_energy += power;
     sums.weighted_nf += power * n * frequency_hz;
     sums.weighted_nn += power * (double)n * n;
     f0 = sums.weighted_nf / sums.weighted_nn;
     fit->found++;
   }
   if (fit->found == 0 || !(sums.weighted_nn > 0.0)) return false;
+  (void)peak_energy;
   /* Energy from half the fundamental up to the last harmonic searched. */
   double total = 0.0;
   int first_bin = (int)floor(0.5 * f0_coarse_hz / bin_hz);

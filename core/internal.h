@@ -25,6 +25,8 @@
 #define PLUMB_QUEUE_CAPACITY 256
 /* Bands of the onset detection function. */
 #define PLUMB_BANDS_MAX 40
+/* Voiced frames whose median is a note's running pitch. */
+#define PLUMB_REFERENCE_FRAMES 48
 /* Timeline marks remembered. Power of two. */
 #define PLUMB_TIMELINE_MARKS 64
 
@@ -196,8 +198,8 @@ typedef struct {
   bool active;
   int count;               /* frames in the current note */
   double reference_midi;   /* the note's running pitch (NaN before) */
-  double reference_sum;
-  int reference_n;
+  double reference_values[PLUMB_REFERENCE_FRAMES]; /* newest voiced frames */
+  int reference_n;         /* frames taken since the reference started */
   int unvoiced_run;
   int quiet_run;
   int change_run;          /* frames the smoothed pitch has left the note */

@@ -303,8 +303,9 @@ static void field_note_name(text_sink *sink, int midi) {
 
 static void field_verdict(text_sink *sink, plumb_verdict verdict) {
   put_char(sink, ',');
-  if ((int)verdict >= 0 && verdict < PLUMB_VERDICT_COUNT) {
-    put_text(sink, plumb_verdict_name(verdict));
+  const char *name = plumb_verdict_name(verdict); /* NULL if not a verdict */
+  if (name) {
+    put_text(sink, name);
   }
 }
 

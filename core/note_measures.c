@@ -163,15 +163,19 @@ static double interpolated_extreme(const double *x, int n, int i) {
   return b - 0.25 * (a - c) * shift;
 }
 
-/* The analysis window and the hop average the instantaneous frequency, so
-   a vibrato of rate f reads smaller by the window's transfer function at f:
-   the Hann transform sinc(v)/(1-v^2), v = f*frame, times the hop's sinc. */
+/* The frame pitch is the spectrogram's local mean frequency, which is the
+   instantaneous frequency weighted by the squared window (Cohen 1995), and
+   the phase advance averages it over a hop. A vibrato of rate f therefore
+   reads smaller by |W2(f)| / W2(0), W2 the transform of the squared Hann
+   window, times the hop's sinc. Hann^2 = 3/8 - cos/2 + cos(2.)/8, so W2 is
+   a sum of five shifted sincs. */
+static double sinc(double x) { return fabs(x) < 1e-12 ? 1.0 : sin(M_PI * x) / (M_PI * x); }
+
 static double window_attenuation(double rate_hz, double frame_s, double hop_s) {
-  double v = rate_hz * frame_s;
-  double hann = fabs(v) < 1e-9 ? 1.0 : sin(M_PI * v) / (M_PI * v) / (1.0 - v * v);
-  double u = M_PI * rate_hz * hop_s;
-  double hop = fabs(u) < 1e-9 ? 1.0 : sin(u) / u;
-  return fabs(hann * hop);
+  double v = rate_hz * frame_s; /* in bins of the frame */
+  double w2 = 0.375 * sinc(v) + 0.25 * (sinc(v - 1.0) + sinc(v + 1.0)) +
+              0.0625 * (sinc(v - 2.0) + sinc(v + 2.0));
+  return fabs(w2 / 0.375 * sinc(rate_hz * hop_s));
 }
 
 /* Mean of a sampled curve between fractional indices a < b (trapezoids,

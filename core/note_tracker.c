@@ -64,7 +64,6 @@ static void start_note(note_tracker *tracker, const frame_record *frame) {
   tracker->active = true;
   tracker->count = 0;
   tracker->reference_midi = NAN;
-  tracker->reference_sum = 0.0;
   tracker->reference_n = 0;
   tracker->unvoiced_run = 0;
   tracker->quiet_run = 0;
@@ -86,30 +85,36 @@ static void close_note(note_tracker *tracker, int count, note_sink sink,
   tracker->active = kept > 0;
 }
 
+/* The reference is the median of the newest voiced frames, so that a
+   stray frame (an octave slip in an attack) cannot move it. */
+static void add_reference(note_tracker *tracker, double midi) {
+  tracker->reference_values[tracker->reference_n % PLUMB_REFERENCE_FRAMES] = midi;
+  tracker->reference_n++;
+  int kept = tracker->reference_n < PLUMB_REFERENCE_FRAMES ? tracker->reference_n
+                                                           : PLUMB_REFERENCE_FRAMES;
+  double sorted[PLUMB_REFERENCE_FRAMES];
+  memcpy(sorted, tracker->reference_values, sizeof(double) * (size_t)kept);
+  tracker->reference_midi = stats_median(sorted, kept);
+}
+
 static void rebuild_reference(note_tracker *tracker, int from) {
-  tracker->reference_sum = 0.0;
   tracker->reference_n = 0;
+  tracker->reference_midi = NAN;
   for (int i = from; i < tracker->count; ++i)
-    if (tracker->frames[i].voiced) {
-      tracker->reference_sum += frame_midi(&tracker->frames[i]);
-      tracker->reference_n++;
-    }
-  tracker->reference_midi = tracker->reference_n > 0
-                                ? tracker->reference_sum / tracker->reference_n
-                                : NAN;
+    if (tracker->frames[i].voiced) add_reference(tracker, frame_midi(&tracker->frames[i]));
   tracker->change_run = 0;
 }
 
+/* The median pitch of about one vibrato cycle of the newest frames: it
+   follows note changes but neither vibrato nor a stray frame. */
 static double smoothed_midi(const note_tracker *tracker) {
   int span = (int)lround(SMOOTHING_S / tracker->hop_s);
-  double sum = 0.0;
+  if (span > PLUMB_REFERENCE_FRAMES) span = PLUMB_REFERENCE_FRAMES;
+  double values[PLUMB_REFERENCE_FRAMES];
   int n = 0;
   for (int i = tracker->count - 1; i >= 0 && n < span; --i)
-    if (tracker->frames[i].voiced) {
-      sum += frame_midi(&tracker->frames[i]);
-      ++n;
-    }
-  return n > 0 ? sum / n : NAN;
+    if (tracker->frames[i].voiced) values[n++] = frame_midi(&tracker->frames[i]);
+  return n > 0 ? stats_median(values, n) : NAN;
 }
 
 /* First frame of the current run of frames away from the reference. */
@@ -129,19 +134,13 @@ static void follow_pitch(note_tracker *tracker, const frame_record *frame,
                          note_sink sink, void *context) {
   if (!frame->voiced) return;
   if (tracker->reference_n < 3) {
-    if (tracker->count > REFERENCE_SKIP_FRAMES) {
-      tracker->reference_sum += frame_midi(frame);
-      tracker->reference_n++;
-      tracker->reference_midi = tracker->reference_sum / tracker->reference_n;
-    }
+    if (tracker->count > REFERENCE_SKIP_FRAMES) add_reference(tracker, frame_midi(frame));
     return;
   }
   double away_cents = fabs(smoothed_midi(tracker) - tracker->reference_midi) * 100.0;
   if (away_cents <= PITCH_CHANGE_CENTS) {
     tracker->change_run = 0;
-    tracker->reference_sum += frame_midi(frame);
-    tracker->reference_n++;
-    tracker->reference_midi = tracker->reference_sum / tracker->reference_n;
+    add_reference(tracker, frame_midi(frame));
     return;
   }
   if (++tracker->change_run < tracker->min_note_frames) return;

@@ -1,0 +1,101 @@
+#include "harness.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+int harness_run(const plumb_settings *settings, const float *samples,
+                size_t n, size_t block, harness_result *result) {
+  memset(result, 0, sizeof *result);
+  plumb_status status;
+  plumb *analyser = plumb_new(settings, &status);
+  if (!analyser) return -1;
+  if (block == 0) block = 1;
+  plumb_note note;
+  for (size_t i = 0; i < n; i += block) {
+    size_t length = n - i < block ? n - i : block;
+    plumb_process(analyser, samples + i, length);
+    while (plumb_pop_note(analyser, &note))
+      if (result->count < HARNESS_MAX_NOTES) result->notes[result->count++] = note;
+  }
+  plumb_finish(analyser);
+  while (plumb_pop_note(analyser, &note))
+    if (result->count < HARNESS_MAX_NOTES) result->notes[result->count++] = note;
+  plumb_get_counts(analyser, &result->counts);
+  plumb_free(analyser);
+  return 0;
+}
+
+int harness_run_default(double sample_rate_hz, const float *samples, size_t n,
+                        size_t block, harness_result *result) {
+  plumb_settings settings;
+  plumb_settings_default(&settings, sample_rate_hz);
+  return harness_run(&settings, samples, n, block, result);
+}
+
+double harness_cents(double a_hz, double b_hz) { return 1200.0 * log2(a_hz / b_hz); }
+
+#define ONSET_TOLERANCE_S 0.05
+#define PITCH_TOLERANCE_CENTS 50.0
+
+static bool compatible(const harness_truth *t, const plumb_note *e) {
+  if (fabs(t->onset_s - e->start_s) > ONSET_TOLERANCE_S) return false;
+  if (t->f0_hz <= 0.0) return true;
+  return fabs(harness_cents(e->f0_hz, t->f0_hz)) <= PITCH_TOLERANCE_CENTS;
+}
+
+/* Kuhn's augmenting paths: a maximum one-to-one matching, as mir_eval. */
+static bool augment(const harness_truth *truth, const harness_result *result,
+                    const int *estimate_index, int estimates, int r,
+                    bool *seen, int *owner) {
+  for (int e = 0; e < estimates; ++e) {
+    if (seen[e] || !compatible(&truth[r], &result->notes[estimate_index[e]]))
+      continue;
+    seen[e] = true;
+    if (owner[e] < 0 ||
+        augment(truth, result, estimate_index, estimates, owner[e], seen, owner)) {
+      owner[e] = r;
+      return true;
+    }
+  }
+  return false;
+}
+
+void harness_score_notes(const harness_truth *truth, int truth_count,
+                         const harness_result *result, harness_score *score) {
+  memset(score, 0, sizeof *score);
+  int estimate_index[HARNESS_MAX_NOTES];
+  int estimates = 0;
+  for (int i = 0; i < result->count; ++i)
+    if (result->notes[i].verdict != PLUMB_VERDICT_UNPITCHED)
+      estimate_index[estimates++] = i;
+  int owner[HARNESS_MAX_NOTES];
+  for (int e = 0; e < estimates; ++e) owner[e] = -1;
+  for (int r = 0; r < truth_count; ++r) {
+    bool seen[HARNESS_MAX_NOTES] = {false};
+    augment(truth, result, estimate_index, estimates, r, seen, owner);
+  }
+  for (int r = 0; r < truth_count; ++r) score->match[r] = -1;
+  for (int e = 0; e < estimates; ++e)
+    if (owner[e] >= 0) {
+      score->match[owner[e]] = estimate_index[e];
+      score->matched++;
+    }
+  score->reference = truth_count;
+  score->estimated = estimates;
+  score->precision = estimates ? (double)score->matched / estimates : 0.0;
+  score->recall = truth_count ? (double)score->matched / truth_count : 0.0;
+  double sum = score->precision + score->recall;
+  score->f1 = sum > 0.0 ? 2.0 * score->precision * score->recall / sum : 0.0;
+}
+
+void harness_print(const harness_result *result) {
+  for (int i = 0; i < result->count; ++i) {
+    const plumb_note *n = &result->notes[i];
+    char name[8];
+    plumb_note_name(n->midi, name);
+    printf("  note %d: %.3f-%.3f s %s f0 %.3f Hz %+.2f c spread %.2f vib %.2f Hz %.2f c %s\n",
+           i, n->start_s, n->end_s, name, n->f0_hz, n->cents, n->spread_cents,
+           n->vibrato_hz, n->vibrato_cents, plumb_verdict_name(n->verdict));
+  }
+}
