@@ -20,8 +20,9 @@
 #define GATE_DBFS (-60.0)          /* below this a frame is silence */
 #define RELEASE_DROP_DB 40.0       /* a note has ended this far below its peak */
 #define QUIET_FRAMES_TO_END 2
-#define RESTART_RISE_DB 3.0
-#define UNVOICED_FRAMES_TO_END 3
+/* A pitched note survives this long without pitch while it stays loud:
+   the frames of a legato change straddle two pitches and read none. */
+#define UNVOICED_S_TO_END 0.1
 #define ONSET_MIN_DB 2.5           /* mean band rise over two hops */
 #define ONSET_ABOVE_RECENT_DB 1.5  /* above the recent mean of the function */
 #define PITCH_CHANGE_CENTS 50.0
@@ -117,17 +118,22 @@ static double smoothed_midi(const note_tracker *tracker) {
   return n > 0 ? stats_median(values, n) : NAN;
 }
 
-/* First frame of the current run of frames away from the reference. */
+/* Where a legato change begins: the frames that left the reference, back
+   to the last frame still near it. Frames between them that have no pitch
+   (their window straddles both notes) are split evenly between the two. */
 static int change_start(const note_tracker *tracker) {
+  int first_new = tracker->count - 1;
   int i = tracker->count - 1;
   while (i > 0) {
     const frame_record *f = &tracker->frames[i - 1];
-    if (!f->voiced ||
-        fabs(frame_midi(f) - tracker->reference_midi) * 100.0 <= PITCH_CHANGE_CENTS)
-      break;
+    if (f->voiced) {
+      if (fabs(frame_midi(f) - tracker->reference_midi) * 100.0 <= PITCH_CHANGE_CENTS) break;
+      first_new = i - 1;
+    }
     --i;
   }
-  return i;
+  /* frames [i, first_new) are unvoiced; i - 1 is the last old frame */
+  return (i + first_new + 1) / 2 > 0 ? (i + first_new + 1) / 2 : first_new;
 }
 
 static void follow_pitch(note_tracker *tracker, const frame_record *frame,
@@ -183,14 +189,13 @@ static void track_frame(note_tracker *tracker, const frame_record *frame,
   tracker->frames[tracker->count++] = *frame;
   bool pitched = tracker->reference_n >= 3;
   int tail = tracker->quiet_run >= QUIET_FRAMES_TO_END ? tracker->quiet_run
-             : pitched && tracker->unvoiced_run >= UNVOICED_FRAMES_TO_END
+             : pitched && tracker->unvoiced_run * tracker->hop_s >= UNVOICED_S_TO_END
                  ? tracker->unvoiced_run
                  : 0;
   if (tail > 0) {
-    /* What follows must rise above the note's release (or above where
-       it lost its pitch) to start a note without an onset. */
-    tracker->idle_floor_dbfs = fmax(tracker->peak_level_dbfs - RELEASE_DROP_DB,
-                                    frame->level_dbfs + RESTART_RISE_DB);
+    /* What follows must rise above the note's release to start a note
+       without an onset. */
+    tracker->idle_floor_dbfs = tracker->peak_level_dbfs - RELEASE_DROP_DB;
     close_note(tracker, tracker->count - tail, sink, context);
     tracker->active = false;
     return;

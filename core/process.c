@@ -28,12 +28,14 @@ static double onset_function(const plumb *self, int slot, int slot_before) {
   for (int b = 1; b < bands; ++b)
     if (self->band_db[slot][b] > loudest) loudest = self->band_db[slot][b];
   double rise = 0.0;
+  int counted = 0;
   for (int b = 0; b < bands; ++b) {
     if (self->band_db[slot][b] < loudest - ONSET_BAND_RANGE_DB) continue;
     double d = self->band_db[slot][b] - self->band_db[slot_before][b];
     if (d > 0.0) rise += d;
+    counted++;
   }
-  return rise / bands;
+  return counted > 0 ? rise / counted : 0.0;
 }
 
 static float centre_peak(const plumb *self) {

@@ -99,3 +99,82 @@ void harness_print(const harness_result *result) {
            n->vibrato_hz, n->vibrato_cents, plumb_verdict_name(n->verdict));
   }
 }
+
+/* ------------------------------------------------------------ random takes */
+
+#include <stdlib.h>
+
+static double uniform(sig_rng *rng, double low, double high) {
+  return low + (high - low) * sig_rng_uniform(rng);
+}
+
+static int choose_notes(const harness_take_spec *spec, sig_rng *rng, harness_take *take) {
+  double t = 0.3;
+  int midi = 60 + (int)uniform(rng, -6, 6);
+  int count = 0;
+  while (count < HARNESS_MAX_NOTES) {
+    double length = uniform(rng, 0.25, 0.8);
+    if (t + length > spec->duration_s - 0.4) break;
+    sig_note *note = &take->notes[count];
+    memset(note, 0, sizeof *note);
+    int step = (int)uniform(rng, -5, 6);
+    if (step == 0 && count > 0 && take->notes[count - 1].end_s >= t - 1e-9) step = 2;
+    midi += step;
+    if (midi < 45) midi += 12;
+    if (midi > 84) midi -= 12;
+    note->start_s = t;
+    note->end_s = t + length;
+    note->midi = midi;
+    note->detune_cents = uniform(rng, -30.0, 30.0);
+    note->level_db = uniform(rng, -6.0, 0.0);
+    if (spec->vibrato && sig_rng_uniform(rng) < 0.3) {
+      note->vibrato_hz = uniform(rng, 5.0, 7.0);
+      note->vibrato_cents = uniform(rng, 10.0, 40.0);
+    }
+    double gap = sig_rng_uniform(rng) < 0.5 ? uniform(rng, 0.05, 0.3) : 0.04;
+    bool next_legato = spec->legato && sig_rng_uniform(rng) < 0.3;
+    if (count > 0 && take->notes[count - 1].end_s >= t - 1e-9) note->glide_s = 0.04;
+    t = note->end_s + (next_legato ? 0.0 : gap);
+    count++;
+  }
+  take->count = count;
+  return count;
+}
+
+int harness_random_take(const harness_take_spec *spec, harness_take *take) {
+  memset(take, 0, sizeof *take);
+  sig_rng rng;
+  sig_rng_seed(&rng, spec->seed);
+  choose_notes(spec, &rng, take);
+  take->n = (size_t)(spec->duration_s * spec->sample_rate_hz);
+  take->samples = calloc(take->n, sizeof(float));
+  if (!take->samples) return -1;
+  sig_voice voice;
+  memset(&voice, 0, sizeof voice);
+  voice.timbre.partials = 12;
+  voice.timbre.law = SIG_AMPS_SAWTOOTH;
+  voice.timbre.random_phase = true;
+  voice.timbre.phase_seed = spec->seed + 1;
+  voice.envelope.attack = SIG_RAMP_LINEAR;
+  voice.envelope.attack_s = 0.015;
+  voice.envelope.release = SIG_RAMP_EXP;
+  voice.envelope.release_s = 0.02;
+  voice.reference_hz = 440.0;
+  voice.amplitude = 0.2;
+  if (sig_render_notes(&voice, take->notes, (size_t)take->count, spec->sample_rate_hz,
+                       take->samples, take->n) != 0)
+    return -1;
+  if (spec->snr_db > 0.0) sig_add_noise_snr(take->samples, take->n, spec->snr_db, &rng);
+  for (int i = 0; i < take->count; ++i) {
+    take->true_f0_hz[i] = 440.0 * pow(2.0, (take->notes[i].midi - 69) / 12.0 +
+                                               take->notes[i].detune_cents / 1200.0);
+    take->truth[i].onset_s = take->notes[i].start_s;
+    take->truth[i].f0_hz = take->true_f0_hz[i];
+  }
+  return 0;
+}
+
+void harness_take_free(harness_take *take) {
+  free(take->samples);
+  take->samples = NULL;
+}

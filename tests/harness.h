@@ -55,3 +55,31 @@ double harness_cents(double a_hz, double b_hz);
 void harness_print(const harness_result *result);
 
 #endif
+
+/* ------------------------------------------------------------ random takes */
+
+#include "signal.h"
+
+typedef struct {
+  double sample_rate_hz;
+  double snr_db;          /* white noise re the take's power; <= 0: none */
+  double duration_s;
+  bool vibrato;           /* some notes carry vibrato */
+  bool legato;            /* some notes follow without a gap */
+  uint64_t seed;
+} harness_take_spec;
+
+typedef struct {
+  float *samples;
+  size_t n;
+  int count;
+  sig_note notes[HARNESS_MAX_NOTES];
+  harness_truth truth[HARNESS_MAX_NOTES];
+  double true_f0_hz[HARNESS_MAX_NOTES]; /* centre pitch of each note */
+} harness_take;
+
+/* A seeded melody of harmonic tones (MIDI 45-84, detunes up to +-30
+   cents, notes 0.25-0.8 s, rests, re-articulations, legato with glides,
+   vibrato) with its ground truth. Free with harness_take_free. */
+int harness_random_take(const harness_take_spec *spec, harness_take *take);
+void harness_take_free(harness_take *take);
