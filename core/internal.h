@@ -209,6 +209,7 @@ typedef struct {
   int onset_history_n;
   frame_record pending;    /* one frame of look-ahead for onset peaks */
   bool has_pending;
+  bool has_pending_peak;   /* the frame being tracked is a flux peak */
   double previous_onset_db;
   frame_record *frames;    /* PLUMB_NOTE_FRAMES_MAX */
 } note_tracker;

@@ -25,6 +25,11 @@
 #define UNVOICED_S_TO_END 0.1
 #define ONSET_MIN_DB 2.5           /* mean band rise over two hops */
 #define ONSET_ABOVE_RECENT_DB 1.5  /* above the recent mean of the function */
+/* A weaker flux peak still counts when the level has just dipped this far
+   and come back: a re-articulation at the same pitch. */
+#define REARTICULATION_DIP_DB 6.0
+#define REARTICULATION_MIN_DB 1.0
+#define DIP_SPAN_S 0.065
 #define PITCH_CHANGE_CENTS 50.0
 #define SMOOTHING_S 0.15           /* about one vibrato cycle */
 #define REFERENCE_SKIP_FRAMES 2    /* attack frames kept out of the reference */
@@ -118,9 +123,13 @@ static double smoothed_midi(const note_tracker *tracker) {
   return n > 0 ? stats_median(values, n) : NAN;
 }
 
-/* Where a legato change begins: the frames that left the reference, back
-   to the last frame still near it. Frames between them that have no pitch
-   (their window straddles both notes) are split evenly between the two. */
+/* Where a legato change begins: the first frame of the new pitch, moved
+   back over frames that read no pitch (their window straddles both notes)
+   and over the last few old frames that already lean towards the new
+   pitch (the window reaching into a glide). */
+#define LEAN_CENTS 15.0
+#define LEAN_FRAMES_MAX 3
+
 static int change_start(const note_tracker *tracker) {
   int first_new = tracker->count - 1;
   int i = tracker->count - 1;
@@ -132,8 +141,14 @@ static int change_start(const note_tracker *tracker) {
     }
     --i;
   }
-  /* frames [i, first_new) are unvoiced; i - 1 is the last old frame */
-  return (i + first_new + 1) / 2 > 0 ? (i + first_new + 1) / 2 : first_new;
+  double direction = frame_midi(&tracker->frames[first_new]) - tracker->reference_midi;
+  for (int lean = 0; lean < LEAN_FRAMES_MAX && i > 1; ++lean) {
+    const frame_record *f = &tracker->frames[i - 1];
+    double toward = (frame_midi(f) - tracker->reference_midi) * (direction > 0 ? 100.0 : -100.0);
+    if (!f->voiced || toward <= LEAN_CENTS) break;
+    --i;
+  }
+  return i;
 }
 
 static void follow_pitch(note_tracker *tracker, const frame_record *frame,
@@ -159,6 +174,19 @@ static void follow_pitch(note_tracker *tracker, const frame_record *frame,
   rebuild_reference(tracker, 0);
 }
 
+/* Did the level fall by REARTICULATION_DIP_DB within the last DIP_SPAN_S
+   from where it stood just before? */
+static bool dipped(const note_tracker *tracker) {
+  int span = (int)ceil(DIP_SPAN_S / tracker->hop_s);
+  if (tracker->count < 2 * span) return false;
+  double before = -INFINITY, lowest = INFINITY;
+  for (int i = tracker->count - 2 * span; i < tracker->count - span; ++i)
+    before = fmax(before, tracker->frames[i].level_dbfs);
+  for (int i = tracker->count - span; i < tracker->count; ++i)
+    lowest = fmin(lowest, tracker->frames[i].level_dbfs);
+  return before - lowest >= REARTICULATION_DIP_DB;
+}
+
 static void track_frame(note_tracker *tracker, const frame_record *frame,
                         bool onset, note_sink sink, void *context) {
   bool quiet = frame->level_dbfs < GATE_DBFS;
@@ -171,6 +199,8 @@ static void track_frame(note_tracker *tracker, const frame_record *frame,
       start_note(tracker, frame);
     return;
   }
+  if (!onset && frame->onset_db >= REARTICULATION_MIN_DB && tracker->has_pending_peak)
+    onset = dipped(tracker);
   if (onset && tracker->count >= tracker->min_note_frames) {
     close_note(tracker, tracker->count, sink, context);
     start_note(tracker, frame);
@@ -213,6 +243,7 @@ static bool is_onset(note_tracker *tracker, const frame_record *frame,
   if (tracker->onset_history_n > 0) recent /= tracker->onset_history_n;
   bool peak = frame->onset_db >= tracker->previous_onset_db &&
               (!next || frame->onset_db > next->onset_db);
+  tracker->has_pending_peak = peak;
   return peak && frame->onset_db >= ONSET_MIN_DB &&
          frame->onset_db >= recent + ONSET_ABOVE_RECENT_DB;
 }

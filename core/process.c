@@ -54,7 +54,10 @@ static void analyse_newest(plumb *self, candidate_set *candidates) {
   spectrum_transform(&self->spectrum, self->window, self->spectra[slot]);
   spectrum_levels(&self->spectrum, self->spectra[slot], self->band_db[slot],
                   &self->level_dbfs[slot]);
-  self->onset_db[slot] = frame >= 2 ? onset_function(self, slot, ring_slot(frame - 2)) : 0.0;
+  /* Until the frame two hops back lies wholly inside the take there is no
+     "before" to compare with: the take's own start is not an onset. */
+  bool has_past = frame >= (uint64_t)(self->fft_size / self->hop + 2);
+  self->onset_db[slot] = has_past ? onset_function(self, slot, ring_slot(frame - 2)) : 0.0;
   self->peak[slot] = centre_peak(self);
   uint64_t end = self->samples_in;
   uint64_t half = (uint64_t)self->fft_size / 2;

@@ -126,7 +126,7 @@ static void check_random_takes(double fs, double snr_db, uint64_t seed) {
   double p95 = n ? errors[(int)floor(0.95 * (n - 1))] : INFINITY;
   print_message("fs %.0f snr %.0f dB: F1 %.3f (%d/%d, %d found), median %.3f c, p95 %.3f c\n",
                 fs, snr_db, score.f1, score.matched, take.count, score.estimated, median, p95);
-  if (score.f1 < 0.95) {
+  if (score.f1 < 0.99) {
     harness_print(&result);
     for (int i = 0; i < take.count; ++i)
       print_message("  %s %.3f-%.3f midi %d %+.1f c vib %.1f Hz %.0f c glide %.2f\n",
