@@ -133,23 +133,28 @@ static double normalised_correlation(const double *x, int n, int lag) {
   return xx > 0.0 && yy > 0.0 ? xy / sqrt(xx * yy) : 0.0;
 }
 
-/* Periodicity of the detrended pitch: the best normalised autocorrelation
-   at lags of 3 to 12 Hz. */
+/* Periodicity of the detrended pitch: its normalised autocorrelation must
+   swing negative (half a cycle) and then rise to a peak of at least
+   VIBRATO_MIN_CORRELATION at a lag of 3 to 12 Hz. A wandering pitch has a
+   smooth, falling autocorrelation with no such peak. */
 static bool vibrato_is_periodic(const double *residual, int n, double hop_s) {
   int lag_min = (int)floor(1.0 / (VIBRATO_MAX_HZ * hop_s));
   int lag_max = (int)ceil(1.0 / (VIBRATO_MIN_HZ * hop_s));
   if (lag_min < 2) lag_min = 2;
-  double best = 0.0;
-  int best_lag = 0;
-  for (int lag = lag_min; lag <= lag_max && 2 * lag <= n; ++lag) {
+  bool swung_negative = false, rising = false;
+  double previous = 1.0;
+  for (int lag = 1; lag <= lag_max + 1 && 2 * lag <= n; ++lag) {
     double r = normalised_correlation(residual, n, lag);
-    if (r > best) {
-      best = r;
-      best_lag = lag;
+    if (r < 0.0) swung_negative = true;
+    if (swung_negative && r > previous) rising = true;
+    if (rising && r < previous) {
+      /* the first peak after the dip, at lag - 1 */
+      return lag - 1 >= lag_min && previous >= VIBRATO_MIN_CORRELATION &&
+             n >= 3 * (lag - 1) / 2;
     }
+    previous = r;
   }
-  /* At least one and a half cycles must be seen. */
-  return best_lag > 0 && best >= VIBRATO_MIN_CORRELATION && n >= 3 * best_lag / 2;
+  return false;
 }
 
 /* Parabolic interpolation of an extreme sample of a sampled sinusoid. */

@@ -33,11 +33,12 @@ const char *plumb_csv_header(void);
    return value >= size means the row was cut short. Values that do not
    apply (NaN or infinite; -1 for the integer fields midi and partials)
    are left as empty fields, never written as 0. Returns -1 and writes
-   nothing when note is NULL. PLUMB_CSV_ROW_MAX bytes always suffice for a
-   note whose values are within the ranges the core produces. */
+   nothing when note is NULL. PLUMB_CSV_ROW_MAX bytes always suffice,
+   whatever the values (20 numbers of at most 316 characters each, plus
+   the integers, names and commas). */
 int plumb_note_to_csv(const plumb_note *note, char *buffer, size_t size);
 
-#define PLUMB_CSV_ROW_MAX 1024
+#define PLUMB_CSV_ROW_MAX 8192
 
 /* value with `decimals` digits after a '.', like printf("%.*f") in the C
    locale. decimals is clamped to 0..9. A NaN or infinite value writes the

@@ -124,7 +124,8 @@ static void complete_note(void *context, const frame_record *frames, int count) 
   plumb_note note;
   note_measure(&self->measure, frames, count, self->scratch, &note);
   note.index = self->next_index++;
-  note.timeline_s = timeline_position(&self->timeline, frames[0].centre_sample,
+  double onset_sample = fmax(0.0, note.start_s * self->settings.sample_rate_hz);
+  note.timeline_s = timeline_position(&self->timeline, (uint64_t)llround(onset_sample),
                                       self->settings.sample_rate_hz);
   self->counts.notes++;
   if (plumb_verdict_is_flagged(note.verdict)) self->counts.flagged++;
