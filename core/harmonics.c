@@ -13,10 +13,15 @@
 #include "internal.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
-/* Relative error allowed for the coarse YIN estimate. */
+/* Relative error allowed for the coarse YIN estimate, and for a partial
+   once the fit has a harmonic (30 cents; common practice, no source). */
 #define COARSE_RELATIVE_ERROR 0.01
+#define ACCEPT_RELATIVE_ERROR 0.0175
+/* The stiffest string that stays pitched (issue target: B up to 0.01). */
+#define ACCEPT_B_MAX 0.01
 /* Harmonics above this are left to the note-level partial analysis. */
 #define FRAME_HARMONIC_LIMIT_HZ 8000.0
 
@@ -92,16 +97,84 @@ static int find_peak(const fftwf_complex *bins, int centre, int radius,
   return best;
 }
 
+/* Running sums of two weighted least-squares fits over the harmonics
+   found so far: f_n = n f0 (the frame pitch), and (f_n / n)^2 = f0^2 (1 +
+   B n^2) (the stiff-string model, Fletcher 1964), whose B steers the search
+   for the next harmonic so that stretched partials are followed. */
 typedef struct {
   double weighted_nf; /* sum w n f */
   double weighted_nn; /* sum w n^2 */
+  double sw, sx, sy, sxx, sxy; /* (x, y) = (n^2, (f/n)^2) */
+  int count;
 } fit_sums;
 
-static double peak_energy(const fftwf_complex *bins, int k, int last_bin) {
-  double e = 0.0;
-  for (int j = k - 2; j <= k + 2; ++j)
-    if (j >= 0 && j <= last_bin) e += power_at(bins, j);
-  return e;
+static void add_harmonic(fit_sums *sums, int n, double frequency_hz, double power) {
+  double x = (double)n * n, y = (frequency_hz / n) * (frequency_hz / n);
+  sums->weighted_nf += power * n * frequency_hz;
+  sums->weighted_nn += power * x;
+  double w = power * x;
+  sums->sw += w;
+  sums->sx += w * x;
+  sums->sy += w * y;
+  sums->sxx += w * x * x;
+  sums->sxy += w * x * y;
+  sums->count++;
+}
+
+#define SEARCH_B_MAX 0.02
+
+/* Where harmonic n is expected: n f0 sqrt(1 + B n^2) once three harmonics
+   give B, n times the frame pitch before. */
+static double expected_harmonic_hz(const fit_sums *sums, int n, double f0_hz) {
+  double determinant = sums->sw * sums->sxx - sums->sx * sums->sx;
+  if (sums->count < 3 || !(determinant > 0.0)) return n * f0_hz;
+  double slope = (sums->sw * sums->sxy - sums->sx * sums->sy) / determinant;
+  double intercept = (sums->sy - slope * sums->sx) / sums->sw;
+  if (!(intercept > 0.0) || !(slope > 0.0)) return n * f0_hz;
+  double b = fmin(slope / intercept, SEARCH_B_MAX);
+  return n * sqrt(intercept) * sqrt(1.0 + b * n * n);
+}
+
+/*
+  The share of the frame's strong spectral peaks (within 30 dB of the
+  strongest) that no harmonic accounts for. Membranes, bars and bells have
+  strong modes between the harmonics of any fundamental; a harmonic or
+  stiff-string tone has almost none.
+*/
+static double stray_peak_share(const fftwf_complex *bins, int first_bin, int last_bin,
+                               const int *harmonic_bins, int harmonic_count, int lobe,
+                               double floor_power) {
+  double strongest = 0.0;
+  for (int k = first_bin; k <= last_bin; ++k) strongest = fmax(strongest, power_at(bins, k));
+  double total = 0.0, stray = 0.0;
+  for (int k = first_bin; k <= last_bin; ++k) {
+    double p = power_at(bins, k);
+    if (p < PEAK_RANGE * strongest || p < floor_power || p < power_at(bins, k - 1) ||
+        p < power_at(bins, k + 1))
+      continue;
+    total += p;
+    bool covered = false;
+    for (int h = 0; h < harmonic_count && !covered; ++h)
+      covered = abs(k - harmonic_bins[h]) <= lobe;
+    if (!covered) stray += p;
+  }
+  return total > 0.0 ? stray / total : 0.0;
+}
+
+/* The frame's noise floor: the median power of (at most 256, evenly
+   spread) bins of the searched range. A bin of white noise exceeds 20 times
+   the median power with probability e^(-20 ln 2), about 1e-6. */
+#define NOISE_SAMPLES 256
+#define ABOVE_NOISE 20.0
+
+static double noise_floor(const fftwf_complex *bins, int first_bin, int last_bin) {
+  double sample[NOISE_SAMPLES];
+  int span = last_bin - first_bin + 1;
+  int step = span > NOISE_SAMPLES ? (span + NOISE_SAMPLES - 1) / NOISE_SAMPLES : 1;
+  int n = 0;
+  for (int k = first_bin; k <= last_bin && n < NOISE_SAMPLES; k += step)
+    sample[n++] = power_at(bins, k);
+  return n > 0 ? stats_median(sample, n) : 0.0;
 }
 
 bool harmonics_refine(const fftwf_complex *current,
@@ -111,6 +184,7 @@ bool harmonics_refine(const fftwf_complex *current,
   memset(harmonics, 0, sizeof *harmonics);
   fit->f0_hz = NAN;
   fit->harmonic_ratio = 0.0;
+  fit->stray_ratio = 1.0;
   fit->found = 0;
   const double bin_hz = sample_rate_hz / fft_size;
   const double limit_hz = fmin(FRAME_HARMONIC_LIMIT_HZ, 0.45 * sample_rate_hz);
@@ -121,38 +195,47 @@ bool harmonics_refine(const fftwf_complex *current,
   int lobe_radius = (int)floor(0.45 * f0_coarse_hz / bin_hz - 0.5);
   if (lobe_radius < 1) lobe_radius = 1;
   double f0 = f0_coarse_hz;
-  fit_sums sums = {0.0, 0.0};
+  fit_sums sums;
+  memset(&sums, 0, sizeof sums);
   double harmonic_energy = 0.0;
   int last_harmonic_bin = 0;
+  int harmonic_bins[PLUMB_FRAME_HARMONICS];
+  int range_first = (int)floor(0.5 * f0_coarse_hz / bin_hz);
+  if (range_first < 1) range_first = 1;
+  int range_last = (int)ceil(limit_hz / bin_hz);
+  if (range_last > last_bin - 1) range_last = last_bin - 1;
+  const double floor_power = ABOVE_NOISE * noise_floor(current, range_first, range_last);
   for (int n = 1; n <= PLUMB_FRAME_HARMONICS; ++n) {
-    double expected_hz = n * f0;
+    double expected_hz = expected_harmonic_hz(&sums, n, f0);
     if (expected_hz > limit_hz) break;
-    /* Until a harmonic is found the coarse estimate's error bounds the
-       search; afterwards the distance the fit has moved does. */
-    double uncertainty_hz = fit->found == 0
-                                ? COARSE_RELATIVE_ERROR * f0
-                                : fmax(2.0 * fabs(f0 - f0_coarse_hz), 0.003 * f0);
-    int radius = 1 + (int)ceil(n * uncertainty_hz / bin_hz);
+    /* The window a partial may fall in: the estimate's uncertainty either
+       side (the coarse error until a harmonic is found), and above it, until
+       three harmonics give a B, the stretch of the stiffest string
+       accepted. A mode outside the window is not a harmonic. */
+    double relative = fit->found == 0 ? COARSE_RELATIVE_ERROR : ACCEPT_RELATIVE_ERROR;
+    double low_hz = expected_hz * (1.0 - relative);
+    double high_hz = expected_hz * (1.0 + relative);
+    if (sums.count < 3) high_hz *= sqrt(1.0 + ACCEPT_B_MAX * n * n);
+    int low_bin = (int)floor(low_hz / bin_hz), high_bin = (int)ceil(high_hz / bin_hz);
+    int centre = (low_bin + high_bin) / 2, radius = (high_bin - low_bin + 1) / 2;
     if (radius > spacing_radius) radius = spacing_radius > 1 ? spacing_radius : 1;
-    int centre = (int)lround(expected_hz / bin_hz);
     last_harmonic_bin = centre + radius;
     int k = find_peak(current, centre, radius, last_bin);
-    if (k < 0) continue;
+    if (k < 0 || power_at(current, k) < floor_power) continue;
     double power;
     double frequency_bins = harmonic_frequency_bins(current, previous, k, lobe_radius,
                                                     fft_size, hop, &power);
-    if (fabs(frequency_bins - k) > 1.5) continue; /* not a steady peak */
     double frequency_hz = frequency_bins * bin_hz;
+    if (frequency_hz < low_hz - 0.5 * bin_hz || frequency_hz > high_hz + 0.5 * bin_hz)
+      continue; /* an inharmonic mode, or not a steady peak */
     harmonics->frequency_hz[n - 1] = (float)frequency_hz;
     harmonics->amplitude[n - 1] = (float)sqrt(power);
     harmonic_energy += power;
-    sums.weighted_nf += power * n * frequency_hz;
-    sums.weighted_nn += power * (double)n * n;
+    harmonic_bins[fit->found++] = k;
+    add_harmonic(&sums, n, frequency_hz, power);
     f0 = sums.weighted_nf / sums.weighted_nn;
-    fit->found++;
   }
   if (fit->found == 0 || !(sums.weighted_nn > 0.0)) return false;
-  (void)peak_energy;
   /* Energy from half the fundamental up to the last harmonic searched. */
   double total = 0.0;
   int first_bin = (int)floor(0.5 * f0_coarse_hz / bin_hz);
@@ -162,5 +245,7 @@ bool harmonics_refine(const fftwf_complex *current,
     total += power_at(current, k);
   fit->f0_hz = f0;
   fit->harmonic_ratio = total > 0.0 ? fmin(1.0, harmonic_energy / total) : 0.0;
+  fit->stray_ratio = stray_peak_share(current, first_bin, last_harmonic_bin + 1,
+                                      harmonic_bins, fit->found, lobe_radius, floor_power);
   return true;
 }

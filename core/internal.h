@@ -146,6 +146,7 @@ typedef struct {
 typedef struct {
   double f0_hz;           /* weighted fit over the harmonics */
   double harmonic_ratio;  /* energy in harmonic peaks / all energy */
+  double stray_ratio;     /* strong peaks no harmonic accounts for, 0..1 */
   int found;              /* harmonics found */
 } harmonic_fit;
 
@@ -166,6 +167,7 @@ typedef struct {
   double f0_hz;           /* NaN when unvoiced */
   double voiced_probability;
   double harmonic_ratio;
+  double stray_ratio;     /* 1 when no harmonics were searched */
   double level_dbfs;      /* windowed frame level */
   double onset_db;        /* onset detection function */
   float peak;             /* peak |sample| over the hop around the centre */

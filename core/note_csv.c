@@ -191,15 +191,15 @@ static int compare_with_power(double magnitude, int exponent,
 /* round(magnitude / 10^exponent), ties to even. */
 static uint64_t round_scaled(double magnitude, int exponent) {
   uint64_t digits = (uint64_t)floor(scale_by_power_of_ten(magnitude, exponent));
-  while (digits > 0 && compare_with_power(magnitude, exponent,
-                                          (double)digits) < 0) {
+  while (digits > 0 &&
+         compare_with_power(magnitude, exponent, (double)digits) < 0) {
     --digits;
   }
   while (compare_with_power(magnitude, exponent, (double)digits + 1.0) >= 0) {
     ++digits;
   }
-  int versus_half = compare_with_power(magnitude, exponent,
-                                       (double)digits + 0.5);
+  int versus_half =
+      compare_with_power(magnitude, exponent, (double)digits + 0.5);
   if (versus_half > 0 || (versus_half == 0 && (digits & 1u))) {
     ++digits;
   }

@@ -19,6 +19,9 @@
 #define VIBRATO_MIN_CORRELATION 0.5
 #define VIBRATO_MIN_EXTENT_CENTS 2.0
 #define UNSTEADY_SPREAD_FACTOR 1.5 /* of the tolerance, without vibrato */
+/* An event whose strong spectral peaks lie this much (energy-weighted)
+   off every harmonic and stiff-string series has no definite pitch. */
+#define MAX_STRAY_SHARE 0.15
 
 static double frame_cents(const frame_record *frame, double reference_hz) {
   return 1200.0 * log2(frame->f0_hz / reference_hz);
@@ -416,6 +419,20 @@ static double refine_end_s(const measure_context *context,
   return fallback;
 }
 
+/* Energy-weighted share of strong peaks off the harmonic series, over the
+   frames where harmonics were searched (the attack counts: a bar's upper
+   modes die first). */
+static double stray_share(const frame_record *frames, int count) {
+  double weighted = 0.0, total = 0.0;
+  for (int i = 0; i < count; ++i) {
+    if (!isfinite(frames[i].stray_ratio)) continue;
+    double power = pow(10.0, frames[i].level_dbfs / 10.0);
+    weighted += power * frames[i].stray_ratio;
+    total += power;
+  }
+  return total > 0.0 ? weighted / total : 1.0;
+}
+
 void note_measure(const measure_context *context, const frame_record *frames,
                   int count, double *scratch, plumb_note *note) {
   clear_note(note);
@@ -430,6 +447,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
   note->peak_dbfs = peak > 0.0f ? 20.0 * log10(peak) : -INFINITY;
   steady_part part;
   if (voiced < 3 || voiced < MIN_VOICED_FRACTION * count ||
+      stray_share(frames, count) > MAX_STRAY_SHARE ||
       !find_steady_part(context, frames, count, note->start_s, note->end_s,
                         scratch, &part)) {
     leave_unpitched(note);

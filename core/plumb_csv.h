@@ -52,8 +52,7 @@ int plumb_csv_fixed(double value, int decimals, char *buffer, size_t size);
    that is for values from about 1e-19 to 1e25 at 3 decimals; outside that
    range one rounding step may change the last digit of a value that lies
    within one unit in the last place of a rounding midpoint. */
-int plumb_csv_scientific(double value, int decimals, char *buffer,
-                         size_t size);
+int plumb_csv_scientific(double value, int decimals, char *buffer, size_t size);
 
 #ifdef __cplusplus
 }

@@ -89,12 +89,21 @@ static void decide_frame(plumb *self, frame_record *record) {
   record->peak = self->peak[slot];
   record->voiced_probability = candidates->voiced_probability;
   record->f0_hz = NAN;
-  if (state == 0 || frame == 0) return;
+  record->stray_ratio = NAN;
+  if (frame == 0 || candidates->count == 0) return;
+  /* Unvoiced frames are searched too, from their most probable candidate:
+     an attack's inharmonic modes tell a strike from a note. */
+  int chosen = state > 0 ? state - 1 : 0;
   harmonic_fit fit;
   bool found = harmonics_refine(self->spectra[slot], self->spectra[ring_slot(frame - 1)],
                                 self->fft_size, self->hop, self->settings.sample_rate_hz,
-                                candidates->candidate[state - 1].frequency_hz,
+                                candidates->candidate[chosen].frequency_hz,
                                 &record->harmonics, &fit);
+  record->stray_ratio = found ? fit.stray_ratio : NAN;
+  if (state == 0) {
+    memset(&record->harmonics, 0, sizeof record->harmonics);
+    return;
+  }
   record->harmonic_ratio = fit.harmonic_ratio;
   if (found && fit.harmonic_ratio >= MIN_HARMONIC_RATIO && in_range(self, fit.f0_hz)) {
     record->voiced = true;
