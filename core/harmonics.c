@@ -13,7 +13,6 @@
 #include "internal.h"
 
 #include <math.h>
-#include <stdlib.h>
 #include <string.h>
 
 /* Relative error allowed for the coarse YIN estimate, and for a partial
@@ -25,19 +24,15 @@
 /* Harmonics above this are left to the note-level partial analysis. */
 #define FRAME_HARMONIC_LIMIT_HZ 8000.0
 
-static double power_at(const fftwf_complex *bins, int k) {
-  return (double)bins[k][0] * bins[k][0] + (double)bins[k][1] * bins[k][1];
-}
-
 static double wrap_phase(double phase) {
   return phase - 2.0 * M_PI * floor(phase / (2.0 * M_PI) + 0.5);
 }
 
 /* Instantaneous frequency, in bins, of bin k from the phase advance
    arg(X_t conj(X_t-1)) less the advance expected of the bin centre. */
-static double vocoder_bin(const fftwf_complex *current,
-                          const fftwf_complex *previous, int k, int fft_size,
-                          int hop) {
+double vocoder_frequency_bins(const fftwf_complex *current,
+                              const fftwf_complex *previous, int k, int fft_size,
+                              int hop) {
   double re = (double)current[k][0] * previous[k][0] + (double)current[k][1] * previous[k][1];
   double im = (double)current[k][1] * previous[k][0] - (double)current[k][0] * previous[k][1];
   double expected = 2.0 * M_PI * k * hop / fft_size;
@@ -65,13 +60,13 @@ static double harmonic_frequency_bins(const fftwf_complex *current,
   if (reach < 0) reach = 0;
   if (radius > reach) radius = reach;
   const double deviation_limit = fmin(2.0, unambiguous_bins - 0.5);
-  double peak_power = power_at(current, peak);
+  double peak_power = bin_power(current, peak);
   double weighted = 0.0, total = 0.0;
   for (int k = peak - radius; k <= peak + radius; ++k) {
     if (k < 1 || k >= last_bin) continue;
-    double p = power_at(current, k);
+    double p = bin_power(current, k);
     if (p < PEAK_RANGE * peak_power) continue;
-    double f = vocoder_bin(current, previous, k, fft_size, hop);
+    double f = vocoder_frequency_bins(current, previous, k, fft_size, hop);
     if (fabs(f - k) > deviation_limit) continue; /* a bin no partial drives */
     weighted += p * f;
     total += p;
@@ -87,9 +82,9 @@ static int find_peak(const fftwf_complex *bins, int centre, int radius,
   double best_power = 0.0;
   for (int k = centre - radius; k <= centre + radius; ++k) {
     if (k < 1 || k >= last_bin) continue;
-    double p = power_at(bins, k);
-    if (p > best_power && p >= power_at(bins, k - 1) &&
-        p >= power_at(bins, k + 1)) {
+    double p = bin_power(bins, k);
+    if (p > best_power && p >= bin_power(bins, k - 1) &&
+        p >= bin_power(bins, k + 1)) {
       best = k;
       best_power = p;
     }
@@ -135,48 +130,6 @@ static double expected_harmonic_hz(const fit_sums *sums, int n, double f0_hz) {
   return n * sqrt(intercept) * sqrt(1.0 + b * n * n);
 }
 
-/*
-  The share of the frame's strong spectral peaks (within 30 dB of the
-  strongest) that no harmonic accounts for. Membranes, bars and bells have
-  strong modes between the harmonics of any fundamental; a harmonic or
-  stiff-string tone has almost none.
-*/
-static double stray_peak_share(const fftwf_complex *bins, int first_bin, int last_bin,
-                               const int *harmonic_bins, int harmonic_count, int lobe,
-                               double floor_power) {
-  double strongest = 0.0;
-  for (int k = first_bin; k <= last_bin; ++k) strongest = fmax(strongest, power_at(bins, k));
-  double total = 0.0, stray = 0.0;
-  for (int k = first_bin; k <= last_bin; ++k) {
-    double p = power_at(bins, k);
-    if (p < PEAK_RANGE * strongest || p < floor_power || p < power_at(bins, k - 1) ||
-        p < power_at(bins, k + 1))
-      continue;
-    total += p;
-    bool covered = false;
-    for (int h = 0; h < harmonic_count && !covered; ++h)
-      covered = abs(k - harmonic_bins[h]) <= lobe;
-    if (!covered) stray += p;
-  }
-  return total > 0.0 ? stray / total : 0.0;
-}
-
-/* The frame's noise floor: the median power of (at most 256, evenly
-   spread) bins of the searched range. A bin of white noise exceeds 20 times
-   the median power with probability e^(-20 ln 2), about 1e-6. */
-#define NOISE_SAMPLES 256
-#define ABOVE_NOISE 20.0
-
-static double noise_floor(const fftwf_complex *bins, int first_bin, int last_bin) {
-  double sample[NOISE_SAMPLES];
-  int span = last_bin - first_bin + 1;
-  int step = span > NOISE_SAMPLES ? (span + NOISE_SAMPLES - 1) / NOISE_SAMPLES : 1;
-  int n = 0;
-  for (int k = first_bin; k <= last_bin && n < NOISE_SAMPLES; k += step)
-    sample[n++] = power_at(bins, k);
-  return n > 0 ? stats_median(sample, n) : 0.0;
-}
-
 bool harmonics_refine(const fftwf_complex *current,
                       const fftwf_complex *previous, int fft_size, int hop,
                       double sample_rate_hz, double f0_coarse_hz,
@@ -184,7 +137,6 @@ bool harmonics_refine(const fftwf_complex *current,
   memset(harmonics, 0, sizeof *harmonics);
   fit->f0_hz = NAN;
   fit->harmonic_ratio = 0.0;
-  fit->stray_ratio = 1.0;
   fit->found = 0;
   const double bin_hz = sample_rate_hz / fft_size;
   const double limit_hz = fmin(FRAME_HARMONIC_LIMIT_HZ, 0.45 * sample_rate_hz);
@@ -199,12 +151,11 @@ bool harmonics_refine(const fftwf_complex *current,
   memset(&sums, 0, sizeof sums);
   double harmonic_energy = 0.0;
   int last_harmonic_bin = 0;
-  int harmonic_bins[PLUMB_FRAME_HARMONICS];
   int range_first = (int)floor(0.5 * f0_coarse_hz / bin_hz);
   if (range_first < 1) range_first = 1;
   int range_last = (int)ceil(limit_hz / bin_hz);
   if (range_last > last_bin - 1) range_last = last_bin - 1;
-  const double floor_power = ABOVE_NOISE * noise_floor(current, range_first, range_last);
+  const double floor_power = PLUMB_ABOVE_NOISE * spectrum_noise_floor(current, range_first, range_last);
   for (int n = 1; n <= PLUMB_FRAME_HARMONICS; ++n) {
     double expected_hz = expected_harmonic_hz(&sums, n, f0);
     if (expected_hz > limit_hz) break;
@@ -221,7 +172,7 @@ bool harmonics_refine(const fftwf_complex *current,
     if (radius > spacing_radius) radius = spacing_radius > 1 ? spacing_radius : 1;
     last_harmonic_bin = centre + radius;
     int k = find_peak(current, centre, radius, last_bin);
-    if (k < 0 || power_at(current, k) < floor_power) continue;
+    if (k < 0 || bin_power(current, k) < floor_power) continue;
     double power;
     double frequency_bins = harmonic_frequency_bins(current, previous, k, lobe_radius,
                                                     fft_size, hop, &power);
@@ -231,7 +182,7 @@ bool harmonics_refine(const fftwf_complex *current,
     harmonics->frequency_hz[n - 1] = (float)frequency_hz;
     harmonics->amplitude[n - 1] = (float)sqrt(power);
     harmonic_energy += power;
-    harmonic_bins[fit->found++] = k;
+    fit->found++;
     add_harmonic(&sums, n, frequency_hz, power);
     f0 = sums.weighted_nf / sums.weighted_nn;
   }
@@ -242,10 +193,8 @@ bool harmonics_refine(const fftwf_complex *current,
   if (first_bin < 1) first_bin = 1;
   if (last_harmonic_bin + 2 > last_bin) last_harmonic_bin = last_bin - 2;
   for (int k = first_bin; k <= last_harmonic_bin + 2; ++k)
-    total += power_at(current, k);
+    total += bin_power(current, k);
   fit->f0_hz = f0;
   fit->harmonic_ratio = total > 0.0 ? fmin(1.0, harmonic_energy / total) : 0.0;
-  fit->stray_ratio = stray_peak_share(current, first_bin, last_harmonic_bin + 1,
-                                      harmonic_bins, fit->found, lobe_radius, floor_power);
   return true;
 }

@@ -136,6 +136,26 @@ void spectrum_levels(const spectrum_analyser *spectrum,
                      const fftwf_complex *bins, float *band_db,
                      double *frame_dbfs);
 
+/* ------------------------------------------------------------ peaks.c */
+
+#define PLUMB_FRAME_PEAKS 8
+/* A bin of white noise exceeds 20 times the median power with probability
+   e^(-20 ln 2), about 1e-6. */
+#define PLUMB_ABOVE_NOISE 20.0
+
+typedef struct {
+  float frequency_hz; /* phase-vocoder instantaneous frequency */
+  float power;
+} spectral_peak;
+
+/* Median power of (at most 256, evenly spread) bins in [first, last]. */
+double spectrum_noise_floor(const fftwf_complex *bins, int first_bin, int last_bin);
+/* The strongest local maxima between low_hz and high_hz that stand within
+   30 dB of the strongest and above the noise floor, strongest first. */
+int spectrum_strong_peaks(const fftwf_complex *current, const fftwf_complex *previous,
+                          int fft_size, int hop, double sample_rate_hz, double low_hz,
+                          double high_hz, spectral_peak *peaks, int max_peaks);
+
 /* ------------------------------------------------------------ harmonics.c */
 
 typedef struct {
@@ -146,9 +166,16 @@ typedef struct {
 typedef struct {
   double f0_hz;           /* weighted fit over the harmonics */
   double harmonic_ratio;  /* energy in harmonic peaks / all energy */
-  double stray_ratio;     /* strong peaks no harmonic accounts for, 0..1 */
   int found;              /* harmonics found */
 } harmonic_fit;
+
+/* |X_k|^2 */
+double bin_power(const fftwf_complex *bins, int k);
+/* Instantaneous frequency of bin k, in bins, from its phase advance over a
+   hop (the phase vocoder). */
+double vocoder_frequency_bins(const fftwf_complex *current,
+                              const fftwf_complex *previous, int k, int fft_size,
+                              int hop);
 
 /* Refine a coarse f0 from the harmonic peaks of two consecutive spectra
    `hop` samples apart, by phase-vocoder instantaneous frequency (Brown &
@@ -167,11 +194,13 @@ typedef struct {
   double f0_hz;           /* NaN when unvoiced */
   double voiced_probability;
   double harmonic_ratio;
-  double stray_ratio;     /* 1 when no harmonics were searched */
+  bool legato_start;      /* first frame of a note split off by a pitch change */
   double level_dbfs;      /* windowed frame level */
   double onset_db;        /* onset detection function */
   float peak;             /* peak |sample| over the hop around the centre */
   harmonic_set harmonics;
+  int peak_count;
+  spectral_peak peaks[PLUMB_FRAME_PEAKS]; /* the strongest spectral peaks */
 } frame_record;
 
 /* ------------------------------------------------------------ note_measures.c */
@@ -184,6 +213,7 @@ typedef struct {
   int hop;
   plumb_tuning tuning;
   double tolerance_cents;
+  bool previous_unpitched; /* a legato continuation of such a sound is too */
 } measure_context;
 
 /* Measure one note from its frames and fill everything but index and

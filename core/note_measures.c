@@ -19,9 +19,6 @@
 #define VIBRATO_MIN_CORRELATION 0.5
 #define VIBRATO_MIN_EXTENT_CENTS 2.0
 #define UNSTEADY_SPREAD_FACTOR 1.5 /* of the tolerance, without vibrato */
-/* An event whose strong spectral peaks lie this much (energy-weighted)
-   off every harmonic and stiff-string series has no definite pitch. */
-#define MAX_STRAY_SHARE 0.15
 
 static double frame_cents(const frame_record *frame, double reference_hz) {
   return 1200.0 * log2(frame->f0_hz / reference_hz);
@@ -419,18 +416,75 @@ static double refine_end_s(const measure_context *context,
   return fallback;
 }
 
-/* Energy-weighted share of strong peaks off the harmonic series, over the
-   frames where harmonics were searched (the attack counts: a bar's upper
-   modes die first). */
-static double stray_share(const frame_record *frames, int count) {
-  double weighted = 0.0, total = 0.0;
-  for (int i = 0; i < count; ++i) {
-    if (!isfinite(frames[i].stray_ratio)) continue;
-    double power = pow(10.0, frames[i].level_dbfs / 10.0);
-    weighted += power * frames[i].stray_ratio;
-    total += power;
+/*
+  Definite pitch or not: the share of the strong spectral peaks that the
+  note's own partial series n f0 sqrt(1 + B n^2) does not account for,
+  weighted by power, over the frames within 10 dB of the note's peak and
+  over its attack (a bar's or a membrane's upper modes die first). Peaks
+  below the fundamental count against it too (a bell's hum).
+*/
+#define SERIES_TOLERANCE_CENTS 30.0
+#define STRONG_FRAME_RANGE_DB 10.0
+#define ATTACK_FRAMES_AFTER_PEAK 8
+/* Synthetic harmonic tones read below 0.02, bars 0.16 and up, membranes
+   0.3 and up (the project's tests); the limits sit between. */
+#define MAX_STRAY_SHARE 0.1
+#define MAX_ATTACK_STRAY_SHARE 0.12
+
+static bool on_series(double f_hz, double f0_hz, double b, double slack_hz) {
+  double tolerance_hz = f_hz * (exp2(SERIES_TOLERANCE_CENTS / 1200.0) - 1.0) + slack_hz;
+  double ratio = f_hz / f0_hz;
+  int guess = (int)floor(ratio / sqrt(1.0 + b * ratio * ratio));
+  for (int n = guess - 1; n <= guess + 2; ++n) {
+    if (n < 1) continue;
+    if (fabs(f_hz - n * f0_hz * sqrt(1.0 + b * n * n)) <= tolerance_hz) return true;
   }
-  return total > 0.0 ? weighted / total : 1.0;
+  return false;
+}
+
+/* Amplitude-weighted share of a frame's peaks within 20 dB of its
+   strongest (the list is strongest first) that lie off the series. */
+#define STRAY_PEAK_RANGE 0.01
+
+static void stray_amplitude(const frame_record *f, double f0_hz, double b, double slack_hz,
+                            double *stray, double *total) {
+  *stray = *total = 0.0;
+  for (int i = 0; i < f->peak_count; ++i) {
+    if (f->peaks[i].power < STRAY_PEAK_RANGE * f->peaks[0].power) break;
+    double amplitude = sqrt(f->peaks[i].power);
+    *total += amplitude;
+    if (!on_series(f->peaks[i].frequency_hz, f0_hz, b, slack_hz)) *stray += amplitude;
+  }
+}
+
+static bool fits_no_series(const measure_context *context, const frame_record *frames,
+                           int count, double f0_hz, double scale, double b) {
+  double slack_hz = 0.6 * context->sample_rate_hz / context->fft_size;
+  if (!isfinite(b) || b < 0.0) b = 0.0;
+  int loudest = 0;
+  for (int i = 1; i < count; ++i)
+    if (frames[i].level_dbfs > frames[loudest].level_dbfs) loudest = i;
+  double floor_dbfs = frames[loudest].level_dbfs - STRONG_FRAME_RANGE_DB;
+  double strong_stray = 0.0, strong_total = 0.0, attack_stray = 0.0, attack_total = 0.0;
+  for (int i = 0; i < count; ++i) {
+    double stray, total;
+    /* A voiced frame is tested against its own pitch, so vibrato and
+       drift do not count as stray. */
+    double frame_f0_hz = frames[i].voiced ? scale * frames[i].f0_hz : f0_hz;
+    stray_amplitude(&frames[i], frame_f0_hz, b, slack_hz, &stray, &total);
+    if (!(total > 0.0)) continue;
+    double weight = pow(10.0, frames[i].level_dbfs / 10.0) / total;
+    if (frames[i].level_dbfs >= floor_dbfs) {
+      strong_stray += weight * stray;
+      strong_total += weight * total;
+    }
+    if (i <= loudest + ATTACK_FRAMES_AFTER_PEAK) {
+      attack_stray += weight * stray;
+      attack_total += weight * total;
+    }
+  }
+  return (strong_total > 0.0 && strong_stray / strong_total > MAX_STRAY_SHARE) ||
+         (attack_total > 0.0 && attack_stray / attack_total > MAX_ATTACK_STRAY_SHARE);
 }
 
 void note_measure(const measure_context *context, const frame_record *frames,
@@ -447,7 +501,6 @@ void note_measure(const measure_context *context, const frame_record *frames,
   note->peak_dbfs = peak > 0.0f ? 20.0 * log10(peak) : -INFINITY;
   steady_part part;
   if (voiced < 3 || voiced < MIN_VOICED_FRACTION * count ||
-      stray_share(frames, count) > MAX_STRAY_SHARE ||
       !find_steady_part(context, frames, count, note->start_s, note->end_s,
                         scratch, &part)) {
     leave_unpitched(note);
@@ -475,6 +528,11 @@ void note_measure(const measure_context *context, const frame_record *frames,
   partial_fit fit = fit_partials(frames, &part);
   note->inharmonicity_b = fit.b;
   note->f0_hz = fit.scale * part.reference_hz * exp2(centre_cents / 1200.0);
+  if (frames[0].legato_start ? context->previous_unpitched
+                             : fits_no_series(context, frames, count, note->f0_hz, fit.scale, fit.b)) {
+    leave_unpitched(note);
+    return;
+  }
   note->midi = plumb_tuning_nearest(&context->tuning, note->f0_hz,
                                     &note->target_hz, &note->cents);
   note->confidence = (sum_probability / steady_voiced) * (sum_ratio / steady_voiced);

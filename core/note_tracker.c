@@ -171,6 +171,7 @@ static void follow_pitch(note_tracker *tracker, const frame_record *frame,
     return;
   }
   close_note(tracker, split, sink, context);
+  tracker->frames[0].legato_start = true;
   rebuild_reference(tracker, 0);
 }
 

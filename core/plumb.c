@@ -133,6 +133,7 @@ void plumb_reset(plumb *self) {
   note_tracker_reset(&self->tracker, self->measure.hop_s, self->settings.min_note_ms);
   timeline_reset(&self->timeline);
   self->next_index = 0;
+  self->measure.previous_unpitched = false;
   memset(&self->live, 0, sizeof self->live);
   self->live.midi = -1;
   self->live.f0_hz = self->live.cents = NAN;

@@ -9,6 +9,11 @@
 #include <math.h>
 #include <string.h>
 
+/* Strong peaks are looked for over the range of fundamentals and their
+   lower partials. */
+#define PEAK_SEARCH_LOW_HZ 25.0
+#define PEAK_SEARCH_HIGH_HZ 8000.0
+
 static int ring_slot(uint64_t frame) { return (int)(frame % PLUMB_SPECTRUM_RING); }
 
 /* Mean rise of the band levels over two hops: a band-wise spectral flux,
@@ -89,21 +94,17 @@ static void decide_frame(plumb *self, frame_record *record) {
   record->peak = self->peak[slot];
   record->voiced_probability = candidates->voiced_probability;
   record->f0_hz = NAN;
-  record->stray_ratio = NAN;
-  if (frame == 0 || candidates->count == 0) return;
-  /* Unvoiced frames are searched too, from their most probable candidate:
-     an attack's inharmonic modes tell a strike from a note. */
-  int chosen = state > 0 ? state - 1 : 0;
+  if (frame == 0 || record->level_dbfs < SEARCH_GATE_DBFS) return;
+  const fftwf_complex *previous = self->spectra[ring_slot(frame - 1)];
+  record->peak_count = spectrum_strong_peaks(
+      self->spectra[slot], previous, self->fft_size, self->hop, self->settings.sample_rate_hz,
+      PEAK_SEARCH_LOW_HZ, PEAK_SEARCH_HIGH_HZ, record->peaks, PLUMB_FRAME_PEAKS);
+  if (state == 0) return;
   harmonic_fit fit;
-  bool found = harmonics_refine(self->spectra[slot], self->spectra[ring_slot(frame - 1)],
-                                self->fft_size, self->hop, self->settings.sample_rate_hz,
-                                candidates->candidate[chosen].frequency_hz,
+  bool found = harmonics_refine(self->spectra[slot], previous, self->fft_size, self->hop,
+                                self->settings.sample_rate_hz,
+                                candidates->candidate[state - 1].frequency_hz,
                                 &record->harmonics, &fit);
-  record->stray_ratio = found ? fit.stray_ratio : NAN;
-  if (state == 0) {
-    memset(&record->harmonics, 0, sizeof record->harmonics);
-    return;
-  }
   record->harmonic_ratio = fit.harmonic_ratio;
   if (found && fit.harmonic_ratio >= MIN_HARMONIC_RATIO && in_range(self, fit.f0_hz)) {
     record->voiced = true;
@@ -132,6 +133,7 @@ static void complete_note(void *context, const frame_record *frames, int count) 
   plumb *self = context;
   plumb_note note;
   note_measure(&self->measure, frames, count, self->scratch, &note);
+  self->measure.previous_unpitched = note.verdict == PLUMB_VERDICT_UNPITCHED;
   note.index = self->next_index++;
   double onset_sample = fmax(0.0, note.start_s * self->settings.sample_rate_hz);
   note.timeline_s = timeline_position(&self->timeline, (uint64_t)llround(onset_sample),
