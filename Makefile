@@ -17,7 +17,7 @@ PKGS        := lv2 lilv-0 fftw3f sndfile cmocka
 BUILD_DEBS  := build-essential pkg-config lv2-dev libfftw3-dev liblilv-dev \
                libsndfile1-dev libcmocka-dev
 TEST_DEBS   := lilv-utils lv2file sordi serdi fluidsynth fluid-soundfont-gm \
-               aubio-tools python3-numpy python3-scipy
+               aubio-tools python3-numpy python3-scipy locales
 
 WARNINGS := -Wall -Wextra -Werror -Wshadow -Wstrict-prototypes \
             -Wmissing-prototypes -Wpointer-arith -Wcast-qual -Wvla
@@ -36,10 +36,12 @@ LV2_SRC   := $(wildcard plugin/lv2/*.c)
 LV2_OBJ   := $(LV2_SRC:%.c=$(BUILD)/obj/%.o)
 CLI_SRC   := $(wildcard plugin/cli/*.c)
 CLI_OBJ   := $(CLI_SRC:%.c=$(BUILD)/obj/%.o)
-SIG_SRC   := tests/signal.c tests/harness.c
+SIG_SRC   := tests/signal.c tests/harness.c tests/sampled/render.c
 SIG_OBJ   := $(SIG_SRC:%.c=$(BUILD)/obj/%.o)
 TEST_SRC  := $(wildcard tests/test_*.c)
 TEST_BIN  := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)
+SAMPLED_TEST_SRC := $(wildcard tests/sampled/test_*.c)
+TEST_BIN  += $(SAMPLED_TEST_SRC:tests/sampled/test_%.c=$(BUILD)/tests/test_sampled_%)
 TTL_SRC   := $(wildcard ttl/*.ttl)
 PRESETS   := $(wildcard presets/*.ttl)
 
@@ -82,6 +84,12 @@ $(BUILD)/plumb: $(CLI_OBJ) $(BUILD)/libplumb.a
 $(BUILD)/tests/%: tests/%.c $(SIG_OBJ) $(BUILD)/libplumb.a
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -o $@ $< $(SIG_OBJ) \
+	    $(BUILD)/libplumb.a $(shell pkg-config --libs cmocka sndfile 2>/dev/null) \
+	    $(FFTW_LIBS) -lpthread -lm -ldl
+
+$(BUILD)/tests/test_sampled_%: tests/sampled/test_%.c $(SIG_OBJ) $(BUILD)/libplumb.a
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -Itests/sampled -o $@ $< $(SIG_OBJ) \
 	    $(BUILD)/libplumb.a $(shell pkg-config --libs cmocka sndfile 2>/dev/null) \
 	    $(FFTW_LIBS) -lpthread -lm -ldl
 

@@ -19,6 +19,7 @@
 #include <locale.h>
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "plumb.h"
@@ -40,8 +41,7 @@ static void printf_fixed(double value, int decimals, char *out, size_t n) {
   snprintf(out, n, "%.*f", decimals, value);
 }
 
-static void printf_scientific(double value, int decimals, char *out,
-                              size_t n) {
+static void printf_scientific(double value, int decimals, char *out, size_t n) {
   snprintf(out, n, "%.*e", decimals, value);
 }
 
@@ -105,14 +105,16 @@ static plumb_note empty_note(void) {
   plumb_note note;
   memset(&note, 0, sizeof note);
   note.index = 0;
-  double *measures[] = {
-      &note.start_s,      &note.end_s,           &note.timeline_s,
-      &note.target_hz,    &note.f0_hz,           &note.cents,
-      &note.spread_cents, &note.drift_cents_per_s, &note.vibrato_hz,
-      &note.vibrato_cents, &note.confidence,     &note.inharmonicity_b,
-      &note.hnr_db,       &note.odd_even_db,     &note.centroid_hz,
-      &note.attack_ms,    &note.decay_ms,        &note.sustain_db,
-      &note.release_ms,   &note.peak_dbfs};
+  double *measures[] = {&note.start_s,      &note.end_s,
+                        &note.timeline_s,   &note.target_hz,
+                        &note.f0_hz,        &note.cents,
+                        &note.spread_cents, &note.drift_cents_per_s,
+                        &note.vibrato_hz,   &note.vibrato_cents,
+                        &note.confidence,   &note.inharmonicity_b,
+                        &note.hnr_db,       &note.odd_even_db,
+                        &note.centroid_hz,  &note.attack_ms,
+                        &note.decay_ms,     &note.sustain_db,
+                        &note.release_ms,   &note.peak_dbfs};
   for (size_t i = 0; i < sizeof measures / sizeof measures[0]; ++i) {
     *measures[i] = NAN;
   }
@@ -140,11 +142,28 @@ static void header_is_the_agreed_column_list(void **state) {
    (2.675 is 2.67499999...), carries (0.99996), signs and huge values. */
 static void fixed_matches_printf_on_edge_values(void **state) {
   (void)state;
-  const double values[] = {0.0,    -0.0,      0.125,      0.375,   2.5,
-                           3.5,    2.675,     1.005,      0.99996, 9.99995,
-                           -0.001, -0.004999, 1e-300,     -1e-300, 440.0,
-                           1e15,   9007199254740991.0, 9007199254740993.0,
-                           1.5e17, -1e300,    123456.78901, 0.045};
+  const double values[] = {0.0,
+                           -0.0,
+                           0.125,
+                           0.375,
+                           2.5,
+                           3.5,
+                           2.675,
+                           1.005,
+                           0.99996,
+                           9.99995,
+                           -0.001,
+                           -0.004999,
+                           1e-300,
+                           -1e-300,
+                           440.0,
+                           1e15,
+                           9007199254740991.0,
+                           9007199254740993.0,
+                           1.5e17,
+                           -1e300,
+                           123456.78901,
+                           0.045};
   for (size_t i = 0; i < sizeof values / sizeof values[0]; ++i) {
     for (int decimals = 0; decimals <= 9; ++decimals) {
       check_fixed(values[i], decimals);
@@ -173,9 +192,9 @@ static void fixed_matches_printf_on_a_sweep(void **state) {
 /* Reference: glibc printf("%.3e"), as the log writes B. */
 static void scientific_matches_printf(void **state) {
   (void)state;
-  const double values[] = {0.0,     -0.0,    1e-5,     1e-4,  9.9995e-4,
-                           9.99949e-4, 1.0,  10.0,     0.1,   0.00012345,
-                           -2.5e-6, 1e-300,  4.9e-324, 1e300, 123456789.0};
+  const double values[] = {0.0,        -0.0,   1e-5,     1e-4,  9.9995e-4,
+                           9.99949e-4, 1.0,    10.0,     0.1,   0.00012345,
+                           -2.5e-6,    1e-300, 4.9e-324, 1e300, 123456789.0};
   for (size_t i = 0; i < sizeof values / sizeof values[0]; ++i) {
     for (int decimals = 0; decimals <= 6; ++decimals) {
       check_scientific(values[i], decimals);
@@ -232,11 +251,11 @@ static void known_row_agrees_with_printf(void **state) {
            "%u,%.4f,%.4f,%.4f,%s,%d,%.3f,%.3f,%.2f,%.2f,%.2f,%.2f,%.2f,"
            "%.3f,%.3e,%d,%.2f,%.2f,%.3f,%.1f,%.1f,%.2f,%.1f,%.2f,%s",
            (unsigned)n.index, n.start_s, n.end_s, n.timeline_s, name, n.midi,
-           n.target_hz, n.f0_hz, n.cents, n.spread_cents,
-           n.drift_cents_per_s, n.vibrato_hz, n.vibrato_cents, n.confidence,
-           n.inharmonicity_b, n.partials, n.hnr_db, n.odd_even_db,
-           n.centroid_hz, n.attack_ms, n.decay_ms, n.sustain_db,
-           n.release_ms, n.peak_dbfs, plumb_verdict_name(n.verdict));
+           n.target_hz, n.f0_hz, n.cents, n.spread_cents, n.drift_cents_per_s,
+           n.vibrato_hz, n.vibrato_cents, n.confidence, n.inharmonicity_b,
+           n.partials, n.hnr_db, n.odd_even_db, n.centroid_hz, n.attack_ms,
+           n.decay_ms, n.sustain_db, n.release_ms, n.peak_dbfs,
+           plumb_verdict_name(n.verdict));
   char row[PLUMB_CSV_ROW_MAX];
   plumb_note_to_csv(&n, row, sizeof row);
   assert_string_equal(row, expected);
@@ -251,34 +270,73 @@ static void short_buffer_is_cut_and_terminated(void **state) {
   int full_length = plumb_note_to_csv(&note, full, sizeof full);
   char small[10];
   memset(small, 'x', sizeof small);
-  assert_int_equal(plumb_note_to_csv(&note, small, sizeof small),
-                   full_length);
+  assert_int_equal(plumb_note_to_csv(&note, small, sizeof small), full_length);
   assert_int_equal(strlen(small), sizeof small - 1);
   assert_memory_equal(small, full, sizeof small - 1);
   assert_int_equal(plumb_note_to_csv(&note, NULL, 0), full_length);
   assert_int_equal(plumb_note_to_csv(NULL, full, sizeof full), -1);
 }
 
+/* When no comma locale is installed, builds de_DE.UTF-8 into a temporary
+   folder with localedef (Debian: libc-bin, with the sources from the
+   `locales` package) and points LOCPATH at it; glibc reads LOCPATH on
+   every setlocale(). Returns the locale's name, or NULL. */
+static char comma_locale_folder[64];
+
+static const char *build_comma_locale(void) {
+  snprintf(comma_locale_folder, sizeof comma_locale_folder,
+           "/tmp/plumb-locale.XXXXXX");
+  if (!mkdtemp(comma_locale_folder)) {
+    return NULL;
+  }
+  char command[256];
+  snprintf(command, sizeof command,
+           "localedef -i de_DE -f UTF-8 %s/de_DE.UTF-8 >/dev/null 2>&1",
+           comma_locale_folder);
+  if (system(command) != 0) {
+    return NULL;
+  }
+  setenv("LOCPATH", comma_locale_folder, 1);
+  return setlocale(LC_ALL, "de_DE.UTF-8");
+}
+
+static const char *choose_comma_locale(void) {
+  const char *installed[] = {"de_DE.UTF-8", "de_DE.utf8", "de_DE",
+                             "fr_FR.UTF-8", "nl_NL.UTF-8"};
+  for (size_t i = 0; i < sizeof installed / sizeof installed[0]; ++i) {
+    const char *chosen = setlocale(LC_ALL, installed[i]);
+    if (chosen) {
+      return chosen;
+    }
+  }
+  return build_comma_locale();
+}
+
+static void remove_built_locale(void) {
+  if (comma_locale_folder[0]) {
+    char command[128];
+    snprintf(command, sizeof command, "rm -rf %s", comma_locale_folder);
+    if (system(command) != 0) {
+      print_message("could not remove %s\n", comma_locale_folder);
+    }
+  }
+}
+
 /* A host that runs in a language with a decimal comma must still get
-   '.' in the log. Skipped when no such locale is installed (on Debian:
-   the `locales` package, or `localedef -i de_DE -f UTF-8 DIR/de_DE.UTF-8`
-   with LOCPATH=DIR). */
+   '.' in the log. printf itself is the witness that the locale took
+   effect ("1,50"); skipped only when no comma locale can be had. */
 static void rows_do_not_follow_the_locale(void **state) {
   (void)state;
   plumb_note note = known_note();
   char in_c_locale[PLUMB_CSV_ROW_MAX];
   plumb_note_to_csv(&note, in_c_locale, sizeof in_c_locale);
 
-  const char *comma_locales[] = {"de_DE.UTF-8", "de_DE.utf8", "de_DE",
-                                 "fr_FR.UTF-8", "nl_NL.UTF-8"};
-  const char *chosen = NULL;
-  for (size_t i = 0; i < 5 && !chosen; ++i) {
-    chosen = setlocale(LC_ALL, comma_locales[i]);
-  }
+  const char *chosen = choose_comma_locale();
   char probe[16];
   snprintf(probe, sizeof probe, "%.2f", 1.5);
   if (!chosen || strcmp(probe, "1,50") != 0) {
     setlocale(LC_ALL, "C");
+    remove_built_locale();
     skip(); /* no locale with a decimal comma on this machine */
   }
   char in_comma_locale[PLUMB_CSV_ROW_MAX];
@@ -286,6 +344,7 @@ static void rows_do_not_follow_the_locale(void **state) {
   char fixed[16];
   plumb_csv_fixed(1.5, 2, fixed, sizeof fixed);
   setlocale(LC_ALL, "C");
+  remove_built_locale();
   assert_string_equal(in_comma_locale, in_c_locale);
   assert_string_equal(fixed, "1.50");
 }

@@ -218,6 +218,31 @@ static void test_vibrato_peak_deviation(void **state) {
   free(f0);
 }
 
+/* A glide linear in cents passes the geometric mean of its ends halfway:
+   440 -> 880 Hz is at 440 sqrt 2 Hz after half its time (Ellis 1885
+   cents are logarithmic in frequency). Held segments keep their pitch. */
+static void test_segments_glide_in_cents(void **state) {
+  (void)state;
+  const sig_segment phrase[3] = {{0.5, 440.0, 440.0}, {0.5, 440.0, 880.0},
+                                 {0.5, 880.0, 880.0}};
+  const size_t n = (size_t)(1.5 * FS_HZ);
+  double *f0 = malloc(n * sizeof *f0);
+  float *x = calloc(n, sizeof *x);
+  assert_non_null(f0);
+  assert_non_null(x);
+  sig_contour_segments(f0, n, FS_HZ, phrase, 3);
+  sig_tone_add(&sine_timbre, f0, NULL, n, FS_HZ, x);
+  const size_t window = (size_t)(0.02 * FS_HZ);
+  assert_float_equal(zero_crossing_hz(x + (size_t)(0.1 * FS_HZ), (size_t)(0.3 * FS_HZ),
+                                      FS_HZ, NULL), 440.0, 2e-3);
+  assert_float_equal(zero_crossing_hz(x + (size_t)(0.74 * FS_HZ), window, FS_HZ, NULL),
+                     440.0 * sqrt(2.0), 0.15);
+  assert_float_equal(zero_crossing_hz(x + (size_t)(1.1 * FS_HZ), (size_t)(0.3 * FS_HZ),
+                                      FS_HZ, NULL), 880.0, 2e-3);
+  free(x);
+  free(f0);
+}
+
 /* Nyquist (Shannon 1949): a partial at 30 kHz would alias to 18 kHz at
    48 kHz. The generator must drop it (it is above 0.45 fs). */
 static void test_partials_above_limit_are_dropped(void **state) {
@@ -473,6 +498,7 @@ int main(void) {
       cmocka_unit_test(test_sine_frequency_by_zero_crossings),
       cmocka_unit_test(test_stiff_string_partial_frequency),
       cmocka_unit_test(test_vibrato_peak_deviation),
+      cmocka_unit_test(test_segments_glide_in_cents),
       cmocka_unit_test(test_partials_above_limit_are_dropped),
       cmocka_unit_test(test_xoshiro_reference_outputs),
       cmocka_unit_test(test_gaussian_moments),

@@ -1,0 +1,32 @@
+/*
+  What the host sends on the plugin's control atom port: on the first run
+  one patch:Set for each parameter the plugin cannot get from a control
+  port (log folder, take label, custom offsets), all at frame 0; on every
+  later run an empty sequence.
+*/
+#ifndef PLUMB_CLI_CONTROL_MESSAGES_H
+#define PLUMB_CLI_CONTROL_MESSAGES_H
+
+#include "uris.h"
+
+#include <lv2/atom/forge.h>
+#include <stdbool.h>
+#include <stdint.h>
+
+typedef struct {
+  const char *log_folder; /* absolute path */
+  const char *take_label;
+  const double *custom_offsets_cents; /* 12 values, or NULL */
+} control_parameters;
+
+/* Writes the first run's sequence into `buffer` (8-byte aligned). False
+   when it does not fit in capacity_bytes. */
+bool control_messages_write_parameters(LV2_Atom_Forge *forge,
+                                       const host_uris *uris, void *buffer,
+                                       uint32_t capacity_bytes,
+                                       const control_parameters *parameters);
+
+/* Resets `buffer` to an empty atom:Sequence. */
+void control_messages_write_empty(const host_uris *uris, void *buffer);
+
+#endif

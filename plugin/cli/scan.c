@@ -1,0 +1,245 @@
+/*
+  The order matters: everything that can be a usage error (options, the
+  tuning file, the preset) is settled before the log folder is made, and
+  all of that before the first take runs.
+*/
+#include "scan.h"
+
+#include "bundle.h"
+#include "exit_status.h"
+#include "host.h"
+#include "jobs.h"
+#include "options.h"
+#include "out_folder.h"
+#include "plumb.h"
+#include "ports.h"
+#include "preset.h"
+#include "progress.h"
+#include "summary.h"
+#include "tracks.h"
+#include "uris.h"
+
+#include <limits.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Everything one scan holds, for the job function. */
+typedef struct {
+  bundle loaded;
+  urid_table *urids;
+  host_uris uris;
+  port_layout layout;
+  float *control_values;
+  char log_folder[PATH_MAX];
+  pthread_mutex_t lilv_mutex;
+  host_context host;
+  track_plan plan;
+  bool *track_ok;
+} scan_run;
+
+/* False after reporting a port the plugin should have and has not. */
+static bool set_port(scan_run *scan, const char *symbol, double value) {
+  int index = port_layout_find(&scan->layout, symbol);
+  if (index < 0 || scan->layout.ports[index].kind != PORT_CONTROL_IN) {
+    console_error("the plugin in %s has no control input '%s'",
+                  scan->loaded.path, symbol);
+    return false;
+  }
+  scan->control_values[index] = (float)value;
+  return true;
+}
+
+/* Options given on the command line win over the preset's values. */
+static bool set_option_ports(scan_run *scan, const scan_options *options) {
+  const struct {
+    bool given;
+    const char *symbol;
+    double value;
+  } settings[] = {
+      {options->has_reference, "reference", options->reference_hz},
+      {options->has_tolerance, "tolerance", options->tolerance_cents},
+      {options->has_temperament, "temperament", options->temperament},
+      {options->has_tonic, "tonic", options->tonic_pitch_class},
+      {options->has_lowest, "lowest", options->lowest_midi},
+      {options->has_highest, "highest", options->highest_midi},
+      {options->has_min_note, "min_note", options->min_note_ms},
+      /* The scan's whole output is the logs, whatever a preset says. */
+      {true, "logging", 1.0},
+  };
+  for (size_t i = 0; i < sizeof settings / sizeof settings[0]; ++i) {
+    if (settings[i].given &&
+        !set_port(scan, settings[i].symbol, settings[i].value)) {
+      return false;
+    }
+  }
+  return true;
+}
+
+/* A preset can leave the range empty where the options alone could not. */
+static bool range_is_ordered(const scan_run *scan) {
+  int lowest = port_layout_find(&scan->layout, "lowest");
+  int highest = port_layout_find(&scan->layout, "highest");
+  if (lowest < 0 || highest < 0 ||
+      scan->control_values[lowest] <= scan->control_values[highest]) {
+    return true;
+  }
+  char lowest_name[8];
+  char highest_name[8];
+  plumb_note_name((int)scan->control_values[lowest], lowest_name);
+  plumb_note_name((int)scan->control_values[highest], highest_name);
+  console_error("the lowest note (%s) is above the highest (%s)", lowest_name,
+                highest_name);
+  return false;
+}
+
+/* Loads the plugin and fixes every port value. Returns an exit status:
+   DONE to go on, USAGE for a bad preset, IO for a missing bundle. */
+static int prepare_plugin(scan_run *scan, const scan_options *options) {
+  if (!bundle_open(&scan->loaded)) {
+    return EXIT_STATUS_IO;
+  }
+  scan->urids = urid_table_new();
+  if (!scan->urids || !host_uris_map(&scan->uris, scan->urids)) {
+    console_error("out of memory mapping URIs");
+    return EXIT_STATUS_IO;
+  }
+  if (!port_layout_read(scan->loaded.world, scan->loaded.plugin,
+                        &scan->layout)) {
+    return EXIT_STATUS_IO;
+  }
+  scan->control_values =
+      calloc(scan->layout.count, sizeof *scan->control_values);
+  if (!scan->control_values) {
+    console_error("out of memory");
+    return EXIT_STATUS_IO;
+  }
+  for (uint32_t i = 0; i < scan->layout.count; ++i) {
+    scan->control_values[i] = scan->layout.ports[i].default_value;
+  }
+  if (options->preset_name &&
+      !preset_apply(&scan->loaded, &scan->layout,
+                    urid_table_map_feature(scan->urids), options->preset_name,
+                    scan->control_values)) {
+    return EXIT_STATUS_USAGE;
+  }
+  if (!set_option_ports(scan, options)) {
+    return EXIT_STATUS_IO;
+  }
+  return range_is_ordered(scan) ? EXIT_STATUS_DONE : EXIT_STATUS_USAGE;
+}
+
+static bool run_track(size_t index, void *context) {
+  scan_run *scan = context;
+  scan->track_ok[index] =
+      host_run_track(&scan->host, &scan->plan.tracks[index]);
+  return scan->track_ok[index];
+}
+
+static void run_tracks(scan_run *scan, const scan_options *options) {
+  bool custom = options->has_temperament &&
+                options->temperament == PLUMB_TEMPERAMENT_CUSTOM;
+  scan->host = (host_context){.plugin = scan->loaded.plugin,
+                              .layout = &scan->layout,
+                              .control_values = scan->control_values,
+                              .urids = scan->urids,
+                              .uris = &scan->uris,
+                              .log_folder = scan->log_folder,
+                              .custom_offsets_cents =
+                                  custom ? options->custom_offsets_cents : NULL,
+                              .block_frames = (uint32_t)options->block_frames,
+                              .lilv_mutex = &scan->lilv_mutex};
+  unsigned threads =
+      options->jobs > 0 ? (unsigned)options->jobs : jobs_default_threads();
+  progress_start(scan->plan.count, scan->plan.total_frames);
+  jobs_run(scan->plan.count, threads, run_track, scan);
+  progress_finish();
+}
+
+/* The summary of the tracks that ran; returns the final exit status. */
+static int summarise(const scan_run *scan, const scan_options *options,
+                     int status) {
+  summary_take *takes =
+      calloc(scan->plan.count ? scan->plan.count : 1, sizeof *takes);
+  char(*paths)[PATH_MAX] =
+      calloc(scan->plan.count ? scan->plan.count : 1, sizeof *paths);
+  if (!takes || !paths) {
+    console_error("out of memory");
+    free(takes);
+    free(paths);
+    return EXIT_STATUS_IO;
+  }
+  size_t count = 0;
+  for (size_t i = 0; i < scan->plan.count; ++i) {
+    const char *label = scan->plan.tracks[i].label;
+    int length = snprintf(paths[count], PATH_MAX, "%s/%s.notes.csv",
+                          scan->log_folder, label);
+    if (length < 0 || length >= PATH_MAX) {
+      console_error("%s: the log's path is too long", label);
+      status = EXIT_STATUS_IO;
+    } else if (scan->track_ok[i]) {
+      takes[count] = (summary_take){label, paths[count]};
+      ++count;
+    }
+  }
+  summary_totals totals = summary_print(stdout, takes, count, scan->log_folder);
+  free(takes);
+  free(paths);
+  if (totals.unreadable_logs) {
+    status = exit_status_worst(status, EXIT_STATUS_IO);
+  }
+  if (options->strict && totals.flagged_notes) {
+    status = exit_status_worst(status, EXIT_STATUS_FLAGGED);
+  }
+  return status;
+}
+
+/* Plans, runs and summarises the takes; the plugin is ready. */
+static int scan_takes(scan_run *scan, const scan_options *options) {
+  if (!out_folder_prepare(options->out_dir, scan->log_folder,
+                          sizeof scan->log_folder)) {
+    return EXIT_STATUS_IO;
+  }
+  if (!tracks_plan(options->files, options->file_count, &scan->plan)) {
+    return EXIT_STATUS_IO;
+  }
+  scan->track_ok =
+      calloc(scan->plan.count ? scan->plan.count : 1, sizeof *scan->track_ok);
+  if (!scan->track_ok) {
+    console_error("out of memory");
+    return EXIT_STATUS_IO;
+  }
+  run_tracks(scan, options);
+  int status = scan->plan.failed_files ? EXIT_STATUS_IO : EXIT_STATUS_DONE;
+  for (size_t i = 0; i < scan->plan.count; ++i) {
+    status = scan->track_ok[i] ? status : EXIT_STATUS_IO;
+  }
+  return summarise(scan, options, status);
+}
+
+static void scan_free(scan_run *scan) {
+  free(scan->track_ok);
+  tracks_free(&scan->plan);
+  free(scan->control_values);
+  port_layout_free(&scan->layout);
+  bundle_close(&scan->loaded);
+  urid_table_free(scan->urids);
+  pthread_mutex_destroy(&scan->lilv_mutex);
+}
+
+int scan_main(int argc, char **argv) {
+  scan_options options;
+  int status = EXIT_STATUS_DONE;
+  if (!options_parse_scan(argc, argv, &options, &status)) {
+    return status;
+  }
+  scan_run scan;
+  memset(&scan, 0, sizeof scan);
+  pthread_mutex_init(&scan.lilv_mutex, NULL);
+  status = prepare_plugin(&scan, &options);
+  if (status == EXIT_STATUS_DONE) {
+    status = scan_takes(&scan, &options);
+  }
+  scan_free(&scan);
+  return status;
+}

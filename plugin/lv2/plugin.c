@@ -1,0 +1,397 @@
+/*
+  plumb LV2: the plugin, urn:plumb:intonation.
+
+  A thin wrapper: audio passes through untouched, the core (libplumb)
+  does all the analysis, and the log writer thread writes the session
+  log. The functions come in lifecycle order; each says its threading
+  class as the LV2 specification defines them ("instantiation" functions
+  are never called at the same time as run() on one instance).
+*/
+#include "controls.h"
+#include "denormals.h"
+#include "log_writer.h"
+#include "messages.h"
+#include "plumb.h"
+#include "ports.h"
+#include "transport.h"
+#include "uris.h"
+
+#include <lv2/atom/forge.h>
+#include <lv2/atom/util.h>
+#include <lv2/core/lv2.h>
+#include <lv2/core/lv2_util.h>
+#include <lv2/log/log.h>
+#include <lv2/log/logger.h>
+#include <lv2/urid/urid.h>
+
+#include <stdbool.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define END_TAKE_TIMEOUT_S 2.0 /* deactivate waits this long for the log */
+#define MAX_FEATURES 64
+
+typedef struct {
+  /* Features */
+  LV2_URID_Map *map;
+  LV2_Log_Logger logger;
+
+  /* Ports */
+  const float *audio_in;
+  float *audio_out;
+  const LV2_Atom_Sequence *control;
+  LV2_Atom_Sequence *notify;
+  float *controls[PORT_COUNT]; /* the control ports by index; others NULL */
+
+  /* URIDs */
+  plumb_uris uris;
+  LV2_Atom_Forge forge;
+  LV2_Atom_Forge_Frame notify_frame;
+  bool notify_open; /* the notify sequence is being written this run() */
+
+  /* State */
+  double sample_rate_hz;
+  plumb *core;
+  log_writer *writer;
+  take_settings settings; /* as last given to the core */
+  bool logging;
+  plumb_lv2_parameters parameters; /* log folder, take label, offsets */
+  log_request request;             /* the latest, for the writer */
+  bool request_pending;            /* not yet taken by the writer's slot */
+  bool ran;                        /* run() was called during this take */
+  transport position;
+} Plumb;
+
+/* ---------------------------------------------------------- instantiate */
+
+/* lv2_features_query() compares every entry's URI with strcmp(), and a
+   host on this machine passes an entry whose URI is NULL: skip those. */
+static const LV2_Feature *const *
+usable_features(const LV2_Feature *const *features,
+                const LV2_Feature *usable[MAX_FEATURES]) {
+  size_t count = 0;
+  for (size_t i = 0; features && features[i] && count + 1 < MAX_FEATURES; ++i) {
+    if (features[i]->URI) {
+      usable[count++] = features[i];
+    }
+  }
+  usable[count] = NULL;
+  return usable;
+}
+
+static bool start_core(Plumb *self) {
+  plumb_settings settings;
+  plumb_status status =
+      controls_to_core(&self->settings, self->sample_rate_hz, &settings);
+  if (status == PLUMB_OK) {
+    self->core = plumb_new(&settings, &status);
+  }
+  if (!self->core) {
+    lv2_log_error(&self->logger, "plumb: cannot start the analysis: %s\n",
+                  plumb_strerror(status));
+  }
+  return self->core != NULL;
+}
+
+static bool start_writer(Plumb *self) {
+  log_writer_config config = {self->core, self->logger, self->sample_rate_hz};
+  int error = 0;
+  self->writer = log_writer_new(&config, &error);
+  if (!self->writer) {
+    lv2_log_error(&self->logger,
+                  "plumb: cannot start the log writer thread (error %d)\n",
+                  error);
+  }
+  return self->writer != NULL;
+}
+
+static void cleanup(LV2_Handle instance);
+
+/* [instantiation] All memory, the FFT plans and the writer thread. */
+static LV2_Handle instantiate(const LV2_Descriptor *descriptor,
+                              double sample_rate_hz, const char *bundle_path,
+                              const LV2_Feature *const *features) {
+  (void)descriptor;
+  (void)bundle_path;
+  const LV2_Feature *usable[MAX_FEATURES];
+  LV2_URID_Map *map = NULL;
+  LV2_Log_Log *log = NULL;
+  const char *missing =
+      lv2_features_query(usable_features(features, usable), LV2_LOG__log, &log,
+                         false, LV2_URID__map, &map, true, NULL);
+  LV2_Log_Logger logger;
+  memset(&logger, 0, sizeof logger);
+  lv2_log_logger_init(&logger, map, log);
+  if (missing) {
+    lv2_log_error(
+        &logger,
+        "plumb: the host does not provide %s, which the plugin needs\n",
+        missing);
+    return NULL;
+  }
+  Plumb *self = calloc(1, sizeof *self);
+  if (!self) {
+    lv2_log_error(&logger, "plumb: out of memory\n");
+    return NULL;
+  }
+  self->map = map;
+  self->logger = logger;
+  self->sample_rate_hz = sample_rate_hz;
+  plumb_uris_map(&self->uris, map);
+  lv2_atom_forge_init(&self->forge, map);
+  messages_parameters_init(&self->parameters);
+  controls_default(&self->settings, &self->logging);
+  transport_reset(&self->position);
+  if (!start_core(self) || !start_writer(self)) {
+    cleanup(self);
+    return NULL;
+  }
+  return self;
+}
+
+/* ---------------------------------------------------------- connect_port */
+
+/* [RT] */
+static void connect_port(LV2_Handle instance, uint32_t port, void *data) {
+  Plumb *self = instance;
+  switch ((plumb_port)port) {
+  case PORT_IN:
+    self->audio_in = data;
+    break;
+  case PORT_OUT:
+    self->audio_out = data;
+    break;
+  case PORT_CONTROL:
+    self->control = data;
+    break;
+  case PORT_NOTIFY:
+    self->notify = data;
+    break;
+  default:
+    if (port < PORT_COUNT) {
+      self->controls[port] = data;
+    }
+    break;
+  }
+}
+
+/* -------------------------------------------------------------- activate */
+
+/* The writer gets the current parameters and settings at the next run(). */
+static void request_update(Plumb *self) {
+  self->request.parameters = self->parameters;
+  self->request.settings = self->settings;
+  self->request_pending = true;
+}
+
+/* [instantiation] A new take: the core forgets all audio and notes. */
+static void activate(LV2_Handle instance) {
+  Plumb *self = instance;
+  plumb_reset(self->core);
+  transport_reset(&self->position);
+  self->ran = false;
+  request_update(self);
+  log_writer_begin_take(self->writer);
+}
+
+/* ------------------------------------------------------------------- run */
+
+static void pass_audio(Plumb *self, uint32_t n_samples) {
+  if (!self->audio_out) {
+    return;
+  }
+  if (!self->audio_in) {
+    memset(self->audio_out, 0, n_samples * sizeof(float));
+  } else if (self->audio_in != self->audio_out) {
+    memcpy(self->audio_out, self->audio_in, n_samples * sizeof(float));
+  }
+}
+
+static void analyse(Plumb *self, uint32_t begin, uint32_t end) {
+  if (self->audio_in && end > begin) {
+    plumb_process(self->core, self->audio_in + begin, end - begin);
+    transport_advance(&self->position, end - begin);
+  }
+}
+
+static void configure(Plumb *self, const take_settings *wanted) {
+  plumb_settings core_settings;
+  if (controls_to_core(wanted, self->sample_rate_hz, &core_settings) !=
+          PLUMB_OK ||
+      plumb_configure(self->core, &core_settings) != PLUMB_OK) {
+    log_writer_complain(self->writer, COMPLAINT_SETTINGS_REJECTED);
+  }
+  self->settings = *wanted; /* not retried every block if refused */
+  request_update(self);
+}
+
+static void read_controls(Plumb *self) {
+  take_settings wanted = self->settings;
+  bool logging = self->logging;
+  controls_read(self->controls, &wanted, &logging);
+  if (logging != self->logging || !self->ran) {
+    self->logging = logging;
+    log_writer_set_logging(self->writer, logging);
+  }
+  if (!controls_equal(&wanted, &self->settings)) {
+    configure(self, &wanted);
+  }
+}
+
+static void apply_set(Plumb *self, const LV2_Atom_Object *set) {
+  unsigned complaints = 0;
+  unsigned changed =
+      messages_apply_set(&self->uris, set, &self->parameters, &complaints);
+  log_writer_complain(self->writer, complaints);
+  if (changed & MESSAGE_CHANGED_OFFSETS) {
+    take_settings wanted = self->settings;
+    memcpy(wanted.tuning.custom_offsets_cents,
+           self->parameters.custom_offsets_cents,
+           sizeof wanted.tuning.custom_offsets_cents);
+    configure(self, &wanted);
+  }
+  if (changed) {
+    request_update(self);
+  }
+}
+
+static void handle_event(Plumb *self, const LV2_Atom *body, uint32_t frame) {
+  if (!lv2_atom_forge_is_object_type(&self->forge, body->type)) {
+    return;
+  }
+  const LV2_Atom_Object *object = (const LV2_Atom_Object *)body;
+  LV2_URID kind = object->body.otype;
+  if (kind == self->uris.patch_Set) {
+    apply_set(self, object);
+  } else if (kind == self->uris.patch_Get && self->notify_open) {
+    if (!messages_answer_get(&self->uris, object, &self->parameters,
+                             &self->forge, frame)) {
+      log_writer_complain(self->writer, COMPLAINT_REPLY_DID_NOT_FIT);
+    }
+  } else if (kind == self->uris.time_Position) {
+    if (transport_read(&self->position, &self->uris, object)) {
+      plumb_mark_timeline(self->core,
+                          self->position.frame / self->sample_rate_hz,
+                          self->position.speed);
+    }
+  }
+}
+
+/* Feed the core the audio up to each event, then handle the event, so
+   a message acts exactly at its frame. */
+static void analyse_with_events(Plumb *self, uint32_t n_samples) {
+  uint32_t analysed = 0;
+  if (self->control) {
+    LV2_ATOM_SEQUENCE_FOREACH(self->control, event) {
+      int64_t at = event->time.frames;
+      uint32_t frame = at < (int64_t)analysed    ? analysed
+                       : at > (int64_t)n_samples ? n_samples
+                                                 : (uint32_t)at;
+      analyse(self, analysed, frame);
+      analysed = frame;
+      handle_event(self, &event->body, frame);
+    }
+  }
+  analyse(self, analysed, n_samples);
+}
+
+static void open_notify(Plumb *self) {
+  self->notify_open = false;
+  if (self->notify) {
+    lv2_atom_forge_set_buffer(&self->forge, (uint8_t *)self->notify,
+                              self->notify->atom.size);
+    self->notify_open =
+        lv2_atom_forge_sequence_head(&self->forge, &self->notify_frame, 0) != 0;
+  }
+}
+
+static void close_notify(Plumb *self) {
+  if (self->notify_open) {
+    lv2_atom_forge_pop(&self->forge, &self->notify_frame);
+  }
+}
+
+/* The writer opens the take's file only once everything run() received
+   has been handed over, so frame-0 parameters are never missed. */
+static void hand_over_to_writer(Plumb *self) {
+  if (self->request_pending && log_writer_offer(self->writer, &self->request)) {
+    self->request_pending = false;
+  }
+  if (!self->request_pending) {
+    log_writer_mark_ready(self->writer);
+  }
+}
+
+static void write_outputs(Plumb *self) {
+  control_readings readings;
+  plumb_get_live(self->core, &readings.live);
+  plumb_get_counts(self->core, &readings.counts);
+  readings.log_ok = log_writer_log_ok(self->writer);
+  controls_write(self->controls, &readings);
+  log_writer_publish_counts(self->writer, &readings.counts);
+}
+
+/* [RT] No allocation, lock, log, file I/O or system call here. */
+static void run(LV2_Handle instance, uint32_t n_samples) {
+  Plumb *self = instance;
+  denormal_guard guard = denormals_flush();
+  pass_audio(self, n_samples);
+  open_notify(self);
+  read_controls(self);
+  analyse_with_events(self, n_samples);
+  close_notify(self);
+  hand_over_to_writer(self);
+  write_outputs(self);
+  self->ran = true;
+  denormals_restore(guard);
+}
+
+/* ------------------------------------------------------------ deactivate */
+
+/* [instantiation] The take ends: complete the last note, then wait
+   (bounded) until its row is flushed and run.json has its totals. */
+static void deactivate(LV2_Handle instance) {
+  Plumb *self = instance;
+  plumb_finish(self->core);
+  plumb_counts counts;
+  plumb_get_counts(self->core, &counts);
+  log_writer_publish_counts(self->writer, &counts);
+  const log_request *pending = self->request_pending ? &self->request : NULL;
+  if (!log_writer_end_take(self->writer, pending, self->ran,
+                           END_TAKE_TIMEOUT_S)) {
+    lv2_log_warning(&self->logger,
+                    "plumb: the session log was not finished within 2 s; "
+                    "its last rows or totals may be missing\n");
+  }
+  self->request_pending = false;
+}
+
+/* --------------------------------------------------------------- cleanup */
+
+/* [instantiation] Stops the writer (closing any open take) first, since
+   it reads the core. */
+static void cleanup(LV2_Handle instance) {
+  Plumb *self = instance;
+  log_writer_free(self->writer);
+  plumb_free(self->core);
+  free(self);
+}
+
+/* -------------------------------------------------------- extension_data */
+
+/* [discovery] No extensions yet (state save and restore come later). */
+static const void *extension_data(const char *uri) {
+  (void)uri;
+  return NULL;
+}
+
+/* ------------------------------------------------------------ descriptor */
+
+static const LV2_Descriptor descriptor = {
+    PLUMB_URI, instantiate, connect_port, activate,
+    run,       deactivate,  cleanup,      extension_data};
+
+LV2_SYMBOL_EXPORT const LV2_Descriptor *lv2_descriptor(uint32_t index) {
+  return index == 0 ? &descriptor : NULL;
+}

@@ -1,0 +1,70 @@
+/*
+  plumb LV2: every URI the plugin speaks, mapped to a URID once in
+  instantiate() (mapping may lock or allocate, so never in run()).
+*/
+#ifndef PLUMB_LV2_URIS_H
+#define PLUMB_LV2_URIS_H
+
+#include <lv2/atom/atom.h>
+#include <lv2/patch/patch.h>
+#include <lv2/time/time.h>
+#include <lv2/urid/urid.h>
+
+#define PLUMB_URI "urn:plumb:intonation"
+#define PLUMB_URI_LOG_FOLDER "urn:plumb:logFolder"
+#define PLUMB_URI_TAKE_LABEL "urn:plumb:takeLabel"
+#define PLUMB_URI_CUSTOM_OFFSETS "urn:plumb:customOffsets"
+
+typedef struct {
+  LV2_URID atom_Float;
+  LV2_URID atom_Double;
+  LV2_URID atom_Int;
+  LV2_URID atom_Long;
+  LV2_URID atom_Path;
+  LV2_URID atom_String;
+  LV2_URID atom_URID;
+  LV2_URID atom_Vector;
+  LV2_URID patch_Get;
+  LV2_URID patch_Set;
+  LV2_URID patch_Put;
+  LV2_URID patch_body;
+  LV2_URID patch_property;
+  LV2_URID patch_value;
+  LV2_URID patch_subject;
+  LV2_URID patch_sequenceNumber;
+  LV2_URID time_Position;
+  LV2_URID time_frame;
+  LV2_URID time_speed;
+  LV2_URID plumb_logFolder;
+  LV2_URID plumb_takeLabel;
+  LV2_URID plumb_customOffsets;
+} plumb_uris;
+
+static inline void plumb_uris_map(plumb_uris *uris, LV2_URID_Map *map) {
+  LV2_URID (*const get)(LV2_URID_Map_Handle, const char *) = map->map;
+  LV2_URID_Map_Handle handle = map->handle;
+  uris->atom_Float = get(handle, LV2_ATOM__Float);
+  uris->atom_Double = get(handle, LV2_ATOM__Double);
+  uris->atom_Int = get(handle, LV2_ATOM__Int);
+  uris->atom_Long = get(handle, LV2_ATOM__Long);
+  uris->atom_Path = get(handle, LV2_ATOM__Path);
+  uris->atom_String = get(handle, LV2_ATOM__String);
+  uris->atom_URID = get(handle, LV2_ATOM__URID);
+  uris->atom_Vector = get(handle, LV2_ATOM__Vector);
+  uris->patch_Get = get(handle, LV2_PATCH__Get);
+  uris->patch_Set = get(handle, LV2_PATCH__Set);
+  uris->patch_Put = get(handle, LV2_PATCH__Put);
+  uris->patch_body = get(handle, LV2_PATCH__body);
+  uris->patch_property = get(handle, LV2_PATCH__property);
+  uris->patch_value = get(handle, LV2_PATCH__value);
+  uris->patch_subject = get(handle, LV2_PATCH__subject);
+  uris->patch_sequenceNumber = get(handle, LV2_PATCH__sequenceNumber);
+  uris->time_Position = get(handle, LV2_TIME__Position);
+  uris->time_frame = get(handle, LV2_TIME__frame);
+  uris->time_speed = get(handle, LV2_TIME__speed);
+  uris->plumb_logFolder = get(handle, PLUMB_URI_LOG_FOLDER);
+  uris->plumb_takeLabel = get(handle, PLUMB_URI_TAKE_LABEL);
+  uris->plumb_customOffsets = get(handle, PLUMB_URI_CUSTOM_OFFSETS);
+}
+
+#endif /* PLUMB_LV2_URIS_H */
