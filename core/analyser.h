@@ -15,7 +15,7 @@
 #define LOWEST_SUPPORTED_MIDI 21
 #define HIGHEST_SUPPORTED_MIDI 108
 /* Frames quieter than this are not searched for a pitch. */
-#define SEARCH_GATE_DBFS (-70.0)
+#define SEARCH_GATE_DBFS (-90.0)
 /* A decided frame is voiced only if this share of its energy lies in
    harmonic peaks. Common practice, no source. */
 #define MIN_HARMONIC_RATIO 0.4

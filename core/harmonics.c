@@ -99,7 +99,7 @@ static int find_peak(const fftwf_complex *bins, int centre, int radius,
 typedef struct {
   double weighted_nf; /* sum w n f */
   double weighted_nn; /* sum w n^2 */
-  double sw, sx, sy, sxx, sxy; /* (x, y) = (n^2, (f/n)^2) */
+  double sw, sx, sy, sxx, sxy, syy; /* (x, y) = (n^2, (f/n)^2) */
   int count;
 } fit_sums;
 
@@ -113,21 +113,61 @@ static void add_harmonic(fit_sums *sums, int n, double frequency_hz, double powe
   sums->sy += w * y;
   sums->sxx += w * x * x;
   sums->sxy += w * x * y;
+  sums->syy += w * y * y;
   sums->count++;
 }
 
 #define SEARCH_B_MAX 0.02
 
-/* Where harmonic n is expected: n f0 sqrt(1 + B n^2) once three harmonics
-   give B, n times the frame pitch before. */
+/* Where harmonic n is expected: n f0 sqrt(1 + B n^2) once four harmonics
+   give a B that stands at least three standard errors clear of zero (a B
+   from a few noisy low harmonics would steer the search onto the wrong
+   harmonic numbers), n times the frame pitch otherwise. */
+#define SEARCH_B_MIN_HARMONICS 4
+#define SEARCH_B_SIGNIFICANCE 3.0
+
 static double expected_harmonic_hz(const fit_sums *sums, int n, double f0_hz) {
   double determinant = sums->sw * sums->sxx - sums->sx * sums->sx;
-  if (sums->count < 3 || !(determinant > 0.0)) return n * f0_hz;
+  if (sums->count < SEARCH_B_MIN_HARMONICS || !(determinant > 0.0)) return n * f0_hz;
   double slope = (sums->sw * sums->sxy - sums->sx * sums->sy) / determinant;
   double intercept = (sums->sy - slope * sums->sx) / sums->sw;
   if (!(intercept > 0.0) || !(slope > 0.0)) return n * f0_hz;
+  double residual = sums->syy - intercept * sums->sy - slope * sums->sxy;
+  double slope_variance = fmax(residual, 0.0) / (sums->count - 2) * sums->sw / determinant;
+  if (slope < SEARCH_B_SIGNIFICANCE * sqrt(slope_variance)) return n * f0_hz;
   double b = fmin(slope / intercept, SEARCH_B_MAX);
   return n * sqrt(intercept) * sqrt(1.0 + b * n * n);
+}
+
+/* A partial taken for the wrong harmonic number (a high one, where the
+   acceptance windows of neighbours come close) pulls the fit far off.
+   Partials more than OUTLIER_CENTS from the fitted stiff-string model are
+   dropped and the sums rebuilt from the rest. */
+#define OUTLIER_CENTS 35.0
+
+static void drop_outliers(harmonic_set *harmonics, fit_sums *sums, harmonic_fit *fit,
+                          double *harmonic_energy) {
+  double f0_model = sums->weighted_nf / sums->weighted_nn;
+  fit_sums kept;
+  memset(&kept, 0, sizeof kept);
+  *harmonic_energy = 0.0;
+  fit->found = 0;
+  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
+    double f = harmonics->frequency_hz[k];
+    if (!(f > 0.0)) continue;
+    int n = k + 1;
+    double predicted = expected_harmonic_hz(sums, n, f0_model);
+    if (fabs(1200.0 * log2(f / predicted)) > OUTLIER_CENTS) {
+      harmonics->frequency_hz[k] = 0.0f;
+      harmonics->amplitude[k] = 0.0f;
+      continue;
+    }
+    double power = (double)harmonics->amplitude[k] * harmonics->amplitude[k];
+    add_harmonic(&kept, n, f, power);
+    *harmonic_energy += power;
+    fit->found++;
+  }
+  *sums = kept;
 }
 
 bool harmonics_refine(const fftwf_complex *current,
@@ -186,7 +226,9 @@ bool harmonics_refine(const fftwf_complex *current,
     add_harmonic(&sums, n, frequency_hz, power);
     f0 = sums.weighted_nf / sums.weighted_nn;
   }
+  if (fit->found >= 3) drop_outliers(harmonics, &sums, fit, &harmonic_energy);
   if (fit->found == 0 || !(sums.weighted_nn > 0.0)) return false;
+  f0 = sums.weighted_nf / sums.weighted_nn;
   /* Energy from half the fundamental up to the last harmonic searched. */
   double total = 0.0;
   int first_bin = (int)floor(0.5 * f0_coarse_hz / bin_hz);

@@ -216,6 +216,14 @@ typedef struct {
   bool previous_unpitched; /* a legato continuation of such a sound is too */
 } measure_context;
 
+/* Onsets are placed where the level crosses this far below the attack's
+   peak. Common practice, no source. */
+#define PLUMB_ONSET_THRESHOLD_DB (-20.0)
+
+/* How long before a sudden start a Hann-windowed frame's level is
+   level_db below its full value (level_db < 0). */
+double window_step_lead_s(double level_db, double frame_s);
+
 /* Measure one note from its frames and fill everything but index and
    timeline_s. `scratch` holds at least 4 * count doubles. */
 void note_measure(const measure_context *context, const frame_record *frames,

@@ -361,8 +361,10 @@ static void measure_drift_and_vibrato(const measure_context *context,
 /*
   Onset and offset times from the frame levels. The level of a Hann-windowed
   frame is half (-3 dB) its full value when a sudden start or stop sits at
-  the frame centre, so the -3 dB crossings of the level, interpolated
-  between frames, place a note's ends free of the window's length.
+  the frame centre, and reaches any other fraction at a lead that the
+  window's shape fixes (see onset_lead_s in plumb.c), so level crossings,
+  interpolated between frames, place a note's ends free of the window's
+  length.
 */
 #define EDGE_SEARCH_FRAMES 12
 #define EDGE_MIN_RISE_DB 6.0
@@ -381,19 +383,30 @@ static double crossing_time_s(const measure_context *context, const frame_record
   return frame_time_s(context, a) + fraction * context->hop_s;
 }
 
+/* The onset: where the level rising to the attack's peak crosses
+   PLUMB_ONSET_THRESHOLD_DB below it (or, over a noise floor, 6 dB above
+   the quietest frame before the peak), moved later by the lead a sudden
+   start has at that level. A low threshold puts a slow, bowed or breathed
+   attack's onset near where it begins to sound. */
+#define ONSET_ABOVE_FLOOR_DB 6.0
+
 static double refine_start_s(const measure_context *context,
                              const frame_record *frames, int count) {
   int look = count < EDGE_SEARCH_FRAMES ? count : EDGE_SEARCH_FRAMES;
   int top = 0;
   for (int i = 1; i < look; ++i)
     if (frames[i].level_dbfs > frames[top].level_dbfs) top = i;
-  double threshold = frames[top].level_dbfs - 3.0;
-  if (frames[top].level_dbfs - frames[0].level_dbfs < EDGE_MIN_RISE_DB)
+  double quietest = frames[0].level_dbfs;
+  for (int i = 1; i < top; ++i) quietest = fmin(quietest, frames[i].level_dbfs);
+  if (frames[top].level_dbfs - quietest < EDGE_MIN_RISE_DB)
     return frame_time_s(context, &frames[0]);
+  double threshold = fmax(frames[top].level_dbfs + PLUMB_ONSET_THRESHOLD_DB,
+                          quietest + ONSET_ABOVE_FLOOR_DB);
   int i = top;
   while (i > 0 && frames[i - 1].level_dbfs >= threshold) --i;
   if (i == 0) return frame_time_s(context, &frames[0]);
-  return crossing_time_s(context, &frames[i - 1], &frames[i], threshold);
+  double lead_s = window_step_lead_s(threshold - frames[top].level_dbfs, context->frame_s);
+  return crossing_time_s(context, &frames[i - 1], &frames[i], threshold) + lead_s;
 }
 
 static double refine_end_s(const measure_context *context,
@@ -420,10 +433,12 @@ static double refine_end_s(const measure_context *context,
   Definite pitch or not: the share of the strong spectral peaks that the
   note's own partial series n f0 sqrt(1 + B n^2) does not account for,
   weighted by power, over the frames within 10 dB of the note's peak and
-  over its attack (a bar's or a membrane's upper modes die first). Peaks
-  below the fundamental count against it too (a bell's hum).
+  over its attack (a bar's or a membrane's upper modes die first).
 */
 #define SERIES_TOLERANCE_CENTS 30.0
+#define UNVOICED_TOLERANCE_CENTS 60.0
+#define OWN_PITCH_RANGE_CENTS 150.0
+#define SUBFUNDAMENTAL_RATIO 0.9
 #define STRONG_FRAME_RANGE_DB 10.0
 #define ATTACK_FRAMES_AFTER_PEAK 8
 /* Synthetic harmonic tones read below 0.02, bars 0.16 and up, membranes
@@ -431,8 +446,9 @@ static double refine_end_s(const measure_context *context,
 #define MAX_STRAY_SHARE 0.1
 #define MAX_ATTACK_STRAY_SHARE 0.12
 
-static bool on_series(double f_hz, double f0_hz, double b, double slack_hz) {
-  double tolerance_hz = f_hz * (exp2(SERIES_TOLERANCE_CENTS / 1200.0) - 1.0) + slack_hz;
+static bool near_series(double f_hz, double f0_hz, double b, double tolerance_cents,
+                        double slack_hz) {
+  double tolerance_hz = f_hz * (exp2(tolerance_cents / 1200.0) - 1.0) + slack_hz;
   double ratio = f_hz / f0_hz;
   int guess = (int)floor(ratio / sqrt(1.0 + b * ratio * ratio));
   for (int n = guess - 1; n <= guess + 2; ++n) {
@@ -442,18 +458,32 @@ static bool on_series(double f_hz, double f0_hz, double b, double slack_hz) {
   return false;
 }
 
+/* On the stiff-string series of the fitted B, or on the harmonic one (a
+   small B fitted to a bowed or blown tone must not make its upper
+   harmonics stray). */
+static bool on_series(double f_hz, double f0_hz, double b, double tolerance_cents,
+                      double slack_hz) {
+  return near_series(f_hz, f0_hz, b, tolerance_cents, slack_hz) ||
+         near_series(f_hz, f0_hz, 0.0, tolerance_cents, slack_hz);
+}
+
 /* Amplitude-weighted share of a frame's peaks within 20 dB of its
    strongest (the list is strongest first) that lie off the series. */
 #define STRAY_PEAK_RANGE 0.01
 
-static void stray_amplitude(const frame_record *f, double f0_hz, double b, double slack_hz,
-                            double *stray, double *total) {
+static void stray_amplitude(const frame_record *f, double f0_hz, double b,
+                            double tolerance_cents, double slack_hz, double *stray,
+                            double *total) {
   *stray = *total = 0.0;
   for (int i = 0; i < f->peak_count; ++i) {
     if (f->peaks[i].power < STRAY_PEAK_RANGE * f->peaks[0].power) break;
+    /* Below the fundamental lie body and room resonances and the ringing
+       of earlier notes; a strike's modes lie above its lowest one. */
+    if (f->peaks[i].frequency_hz < SUBFUNDAMENTAL_RATIO * f0_hz) continue;
     double amplitude = sqrt(f->peaks[i].power);
     *total += amplitude;
-    if (!on_series(f->peaks[i].frequency_hz, f0_hz, b, slack_hz)) *stray += amplitude;
+    if (!on_series(f->peaks[i].frequency_hz, f0_hz, b, tolerance_cents, slack_hz))
+      *stray += amplitude;
   }
 }
 
@@ -469,9 +499,14 @@ static bool fits_no_series(const measure_context *context, const frame_record *f
   for (int i = 0; i < count; ++i) {
     double stray, total;
     /* A voiced frame is tested against its own pitch, so vibrato and
-       drift do not count as stray. */
-    double frame_f0_hz = frames[i].voiced ? scale * frames[i].f0_hz : f0_hz;
-    stray_amplitude(&frames[i], frame_f0_hz, b, slack_hz, &stray, &total);
+       drift do not count as stray; an unvoiced one (an attack, a scoop)
+       or one whose pitch slipped far from the note's against the note's,
+       with more room. */
+    bool own = frames[i].voiced &&
+               fabs(1200.0 * log2(scale * frames[i].f0_hz / f0_hz)) <= OWN_PITCH_RANGE_CENTS;
+    stray_amplitude(&frames[i], own ? scale * frames[i].f0_hz : f0_hz, b,
+                    own ? SERIES_TOLERANCE_CENTS : UNVOICED_TOLERANCE_CENTS, slack_hz,
+                    &stray, &total);
     if (!(total > 0.0)) continue;
     double weight = pow(10.0, frames[i].level_dbfs / 10.0) / total;
     if (frames[i].level_dbfs >= floor_dbfs) {

@@ -17,7 +17,7 @@
 
 /* Levels and thresholds below are common practice, no source; they were
    set on the project's synthetic and sampled test takes. */
-#define GATE_DBFS (-60.0)          /* below this a frame is silence */
+#define GATE_DBFS (-80.0)          /* below this a frame is silence */
 #define RELEASE_DROP_DB 40.0       /* a note has ended this far below its peak */
 #define QUIET_FRAMES_TO_END 2
 /* A pitched note survives this long without pitch while it stays loud:

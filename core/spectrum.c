@@ -104,3 +104,26 @@ void spectrum_levels(const spectrum_analyser *spectrum,
     band_db[b] = (float)(10.0 * log10(power * scale + BAND_FLOOR_POWER));
   }
 }
+
+/* A sudden start at t0 puts into a frame centred at c the energy of the
+   squared window that lies after t0: with u = (t0 - c) / frame, the
+   fraction F(u) = (integral of cos^4(pi v) from u to 1/2) / (3/8), in
+   closed form. Solve F(u) = 10^(level_db / 10) by bisection; the lead is
+   u * frame. */
+static double hann_squared_tail(double u) {
+  double v = M_PI * u;
+  double antiderivative_half = 3.0 * M_PI / 16.0;
+  double antiderivative = 3.0 * v / 8.0 + sin(2.0 * v) / 4.0 + sin(4.0 * v) / 32.0;
+  return (antiderivative_half - antiderivative) / M_PI / 0.375;
+}
+
+double window_step_lead_s(double level_db, double frame_s) {
+  double target = pow(10.0, level_db / 10.0);
+  double low = 0.0, high = 0.5; /* F(0) = 1/2, F(1/2) = 0 */
+  for (int i = 0; i < 60; ++i) {
+    double middle = 0.5 * (low + high);
+    if (hann_squared_tail(middle) > target) low = middle;
+    else high = middle;
+  }
+  return 0.5 * (low + high) * frame_s;
+}
