@@ -25,6 +25,8 @@
 #define PLUMB_QUEUE_CAPACITY 256
 /* Bands of the onset detection function. */
 #define PLUMB_BANDS_MAX 40
+/* Frames of a slow attack looked back over, at most (about 0.34 s at 48 kHz). */
+#define PLUMB_PREROLL_FRAMES 32
 /* Voiced frames whose median is a note's running pitch. */
 #define PLUMB_REFERENCE_FRAMES 48
 /* Timeline marks remembered. Power of two. */
@@ -252,6 +254,11 @@ typedef struct {
   bool has_pending_peak;   /* the frame being tracked is a flux peak */
   double previous_onset_db;
   frame_record *frames;    /* PLUMB_NOTE_FRAMES_MAX */
+  /* The frames since the last silence while no note sounds: a note whose
+     pitch firms up only after a slow attack starts where its sound does. */
+  frame_record preroll[PLUMB_PREROLL_FRAMES];
+  int preroll_count;
+  int preroll_next;
 } note_tracker;
 
 /* A segment closed by the tracker: frames [0, count) of tracker->frames. */

@@ -389,13 +389,20 @@ static double crossing_time_s(const measure_context *context, const frame_record
    start has at that level. A low threshold puts a slow, bowed or breathed
    attack's onset near where it begins to sound. */
 #define ONSET_ABOVE_FLOOR_DB 6.0
+#define ATTACK_SEARCH_S 0.6
+#define ATTACK_DIP_DB 1.0
 
 static double refine_start_s(const measure_context *context,
                              const frame_record *frames, int count) {
-  int look = count < EDGE_SEARCH_FRAMES ? count : EDGE_SEARCH_FRAMES;
+  /* The attack's peak: the level followed upwards (through dips of less
+     than ATTACK_DIP_DB) for at most ATTACK_SEARCH_S. */
+  int look = (int)ceil(ATTACK_SEARCH_S / context->hop_s);
+  if (look > count) look = count;
   int top = 0;
-  for (int i = 1; i < look; ++i)
+  for (int i = 1; i < look; ++i) {
+    if (frames[i].level_dbfs < frames[top].level_dbfs - ATTACK_DIP_DB) break;
     if (frames[i].level_dbfs > frames[top].level_dbfs) top = i;
+  }
   double quietest = frames[0].level_dbfs;
   for (int i = 1; i < top; ++i) quietest = fmin(quietest, frames[i].level_dbfs);
   if (frames[top].level_dbfs - quietest < EDGE_MIN_RISE_DB)
@@ -406,7 +413,13 @@ static double refine_start_s(const measure_context *context,
   while (i > 0 && frames[i - 1].level_dbfs >= threshold) --i;
   if (i == 0) return frame_time_s(context, &frames[0]);
   double lead_s = window_step_lead_s(threshold - frames[top].level_dbfs, context->frame_s);
-  return crossing_time_s(context, &frames[i - 1], &frames[i], threshold) + lead_s;
+  double refined_s = crossing_time_s(context, &frames[i - 1], &frames[i], threshold) + lead_s;
+  /* Over a sound that is still ringing (the floor set the threshold), the
+     crossing says more of the floor than of the note: trust the frame the
+     note was found at, to within a hop. */
+  bool over_floor = threshold > frames[top].level_dbfs + PLUMB_ONSET_THRESHOLD_DB;
+  double found_s = frame_time_s(context, &frames[0]);
+  return over_floor ? fmin(refined_s, found_s + context->hop_s) : refined_s;
 }
 
 static double refine_end_s(const measure_context *context,

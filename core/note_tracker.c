@@ -68,6 +68,7 @@ static double frame_midi(const frame_record *frame) {
 
 static void start_note(note_tracker *tracker, const frame_record *frame) {
   tracker->active = true;
+  tracker->preroll_count = 0;
   tracker->count = 0;
   tracker->reference_midi = NAN;
   tracker->reference_n = 0;
@@ -76,6 +77,29 @@ static void start_note(note_tracker *tracker, const frame_record *frame) {
   tracker->change_run = 0;
   tracker->peak_level_dbfs = frame->level_dbfs;
   tracker->frames[tracker->count++] = *frame;
+}
+
+static void remember_preroll(note_tracker *tracker, const frame_record *frame) {
+  tracker->preroll[tracker->preroll_next] = *frame;
+  tracker->preroll_next = (tracker->preroll_next + 1) % PLUMB_PREROLL_FRAMES;
+  if (tracker->preroll_count < PLUMB_PREROLL_FRAMES) tracker->preroll_count++;
+}
+
+/* A note found by its pitch rather than an onset begins with the sounding
+   frames that led up to it. */
+static void start_after_preroll(note_tracker *tracker, const frame_record *frame) {
+  int count = tracker->preroll_count;
+  int first = (tracker->preroll_next - count + PLUMB_PREROLL_FRAMES) % PLUMB_PREROLL_FRAMES;
+  if (count == 0) {
+    start_note(tracker, frame);
+    return;
+  }
+  start_note(tracker, &tracker->preroll[first]);
+  for (int i = 1; i < count; ++i)
+    tracker->frames[tracker->count++] = tracker->preroll[(first + i) % PLUMB_PREROLL_FRAMES];
+  tracker->frames[tracker->count++] = *frame;
+  for (int i = 0; i < tracker->count; ++i)
+    tracker->peak_level_dbfs = fmax(tracker->peak_level_dbfs, tracker->frames[i].level_dbfs);
 }
 
 /* Hand frames [0, count) to the sink and keep [count, end) as the start of
@@ -196,8 +220,10 @@ static void track_frame(note_tracker *tracker, const frame_record *frame,
        or a level back above the release floor starts one. */
     if (quiet) tracker->idle_floor_dbfs = -INFINITY;
     bool above_release = frame->level_dbfs > tracker->idle_floor_dbfs;
-    if (!quiet && (onset || (frame->voiced && above_release)))
-      start_note(tracker, frame);
+    if (!quiet && onset) start_note(tracker, frame);
+    else if (!quiet && frame->voiced && above_release) start_after_preroll(tracker, frame);
+    else if (!quiet && above_release) remember_preroll(tracker, frame);
+    else tracker->preroll_count = 0;
     return;
   }
   if (!onset && frame->onset_db >= REARTICULATION_MIN_DB && tracker->has_pending_peak)

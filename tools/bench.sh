@@ -1,0 +1,194 @@
+#!/bin/sh
+# The benchmark (`make bench`): sh tools/bench.sh BUILD_DIR
+#
+# On a 10-minute mono 48 kHz take (written by build/tools/bench_take into
+# BUILD_DIR/bench, never committed) it prints, with one job:
+#   - the real-time factor of the core alone and of `plumb scan -j 1`;
+#   - the whole analysis against the bare FFTW transforms it needs;
+#   - aubionotes against `plumb scan -j 1` on the same file;
+#   - memory per instance; the worst plumb_process() call for 64-frame
+#     blocks; note accuracy on the harness's random takes; and, when
+#     valgrind is installed, the core's instruction count.
+# Timings are the best of 3 runs. The targets are printed beside the
+# figures; the benchmark never fails because of them: it exits 0 unless
+# something could not run. docs/benchmarks.md explains every figure.
+#
+# Environment: BENCH_RUNS (default 3), BENCH_CALLGRIND=0 to skip valgrind.
+
+if [ "$#" -ne 1 ]; then
+  echo "usage: sh tools/bench.sh BUILD_DIR" >&2
+  exit 2
+fi
+cd "$(dirname "$0")/.." || exit 2
+build=$1
+out=$build/bench
+take=$out/take.wav
+runs=${BENCH_RUNS:-3}
+failed=""
+tools="bench_take bench_core bench_fft bench_memory bench_accuracy bench_run"
+
+# value KEY FILE: KEY=... from the file's "values:" lines.
+value() { sed -n "s/^values:.* $1=\([^ ]*\).*/\1/p" "$2" 2>/dev/null | tail -n 1; }
+# ratio A B [DECIMALS]: A / B, or n/a.
+ratio() {
+  awk -v a="$1" -v b="$2" -v d="${3:-2}" \
+    'BEGIN { if (a != "" && b > 0) printf "%.*f", d, a / b; else printf "n/a" }'
+}
+# verdict VALUE OP TARGET: "met" or "not met" (OP is >= or <=).
+verdict() {
+  awk -v v="$1" -v op="$2" -v t="$3" 'BEGIN {
+    if (v == "n/a" || v == "") { printf "n/a"; exit }
+    ok = (op == ">=") ? (v + 0 >= t + 0) : (v + 0 <= t + 0)
+    printf "%s", ok ? "met" : "NOT met" }'
+}
+# step NAME COMMAND...: run, keep the output in $out/NAME.txt, show it.
+step() {
+  name=$1
+  shift
+  "$@" >"$out/$name.txt" 2>"$out/$name.err"
+  status=$?
+  cat "$out/$name.txt"
+  if [ "$status" -ne 0 ]; then
+    sed 's/^/  /' "$out/$name.err" >&2
+    echo "bench: $name could not run (exit status $status)" >&2
+    failed="$failed $name"
+  fi
+  return "$status"
+}
+
+mkdir -p "$out" || exit 1
+# Outputs of an earlier run must not stand in for a step that fails now.
+for f in core fft scan aubio latency memory accuracy callgrind; do
+  rm -f "$out/$f.txt" "$out/$f.err"
+done
+targets=""
+for t in $tools; do targets="$targets $build/tools/$t"; done
+# shellcheck disable=SC2086
+make --no-print-directory BUILD="$build" $targets >/dev/null ||
+  { echo "bench: cannot build the bench tools" >&2; exit 1; }
+[ -x "$build/plumb" ] || { echo "bench: $build/plumb is not built (make all)" >&2; exit 1; }
+
+echo "== machine"
+echo "cpu: $(sed -n 's/^model name[[:space:]]*: //p' /proc/cpuinfo | head -n 1)," \
+  "$(grep -c '^processor' /proc/cpuinfo) logical cores, $(nproc) online"
+echo "system: $(uname -sr); fftw $(dpkg-query -W -f='${Version}' libfftw3-single3 2>/dev/null);" \
+  "aubio $(dpkg-query -W -f='${Version}' aubio-tools 2>/dev/null)"
+echo "load average at start: $(cut -d' ' -f1-3 /proc/loadavg)"
+echo
+
+echo "== take"
+if [ -f "$take" ] && [ -f "$out/take.txt" ] && [ "$take" -nt "$build/tools/bench_take" ]; then
+  cat "$out/take.txt"
+  echo "take: kept from an earlier run (newer than its generator)"
+else
+  step take "$build/tools/bench_take" "$take" || { echo "bench: no take" >&2; exit 1; }
+fi
+truth_notes=$(value take_notes "$out/take.txt")
+echo
+
+echo "== core alone (bench_core, block 1024)"
+step core "$build/tools/bench_core" speed "$take" "$runs"
+audio_s=$(value audio_s "$out/core.txt")
+core_s=$(value core_best_s "$out/core.txt")
+hops=$(value hops "$out/core.txt")
+rate=$(value sample_rate_hz "$out/core.txt")
+echo
+
+echo "== bare FFTW transforms of the same hops (bench_fft)"
+[ -n "$hops" ] && step fft "$build/tools/bench_fft" "$rate" "$hops" "$runs"
+fft_s=$(value fft_best_s "$out/fft.txt")
+echo "ratio: whole analysis / bare transforms = $(ratio "$core_s" "$fft_s")"
+echo
+
+echo "== end to end: plumb scan -j 1 (lilv, file reading, log writing)"
+rm -rf "$out/logs"
+step scan "$build/tools/bench_run" "plumb scan" "$runs" \
+  "$build/plumb" scan -j 1 -o "$out/logs" "$take"
+scan_s=$(value best_s "$out/scan.txt")
+scan_notes=$(($(wc -l 2>/dev/null <"$out/logs/take.notes.csv" || echo 1) - 1))
+echo "plumb scan: $scan_notes notes in the log (the take holds $truth_notes)"
+echo
+
+echo "== speed peer: aubionotes -i (same file)"
+if command -v aubionotes >/dev/null 2>&1; then
+  step aubio "$build/tools/bench_run" aubionotes "$runs" aubionotes -i "$take"
+  aubio_s=$(value best_s "$out/aubio.txt")
+else
+  echo "bench: aubionotes is not installed (aubio-tools)" >&2
+  failed="$failed aubionotes"
+  aubio_s=""
+fi
+echo "ratio: aubionotes wall / plumb scan wall = $(ratio "$aubio_s" "$scan_s")"
+echo
+
+echo "== worst plumb_process() call, 64-frame blocks"
+step latency "$build/tools/bench_core" latency "$take" "$runs"
+echo
+
+echo "== memory per instance (bench_memory)"
+step memory "$build/tools/bench_memory" 8
+echo
+
+echo "== accuracy on random takes (bench_accuracy)"
+step accuracy "$build/tools/bench_accuracy" 2 30
+echo
+
+instructions=""
+if [ "${BENCH_CALLGRIND:-1}" != 0 ] && command -v valgrind >/dev/null 2>&1; then
+  echo "== instructions (valgrind --tool=callgrind, first 30 s of the take, one run)"
+  valgrind --tool=callgrind --toggle-collect=plumb_process --toggle-collect=plumb_finish \
+    --callgrind-out-file="$out/callgrind.out" \
+    "$build/tools/bench_core" speed "$take" 1 30 >"$out/callgrind.txt" 2>"$out/callgrind.err"
+  collected=$(sed -n 's/^==[0-9]*== Collected : *//p' "$out/callgrind.err")
+  cg_hops=$(value hops "$out/callgrind.txt")
+  if [ -n "$collected" ] && [ -n "$cg_hops" ]; then
+    instructions=$(ratio "$collected" 30000000 1)
+    echo "instructions: $collected for 30 s ($instructions M per audio second," \
+      "$(ratio "$collected" "$((cg_hops * 1000))" 1) k per hop over $cg_hops hops)"
+    if command -v callgrind_annotate >/dev/null 2>&1; then
+      callgrind_annotate --inclusive=no --threshold=100 "$out/callgrind.out" 2>/dev/null |
+        awk -v total="$collected" '
+          /libfftw3f/ { gsub(",", "", $1); fft += $1 }
+          /^ *[0-9,]+ +\([ 0-9.]+%\) +core\// && shown < 6 {
+            sub(/ \[.*/, ""); print "instructions: " $0; shown++ }
+          END { if (total > 0) printf "instructions: inside libfftw3f %.1f%%\n", 100 * fft / total }'
+    fi
+  else
+    echo "bench: callgrind gave no count" >&2
+    failed="$failed callgrind"
+  fi
+  echo
+fi
+
+core_rtf=$(ratio "$audio_s" "$core_s" 1)
+scan_rtf=$(ratio "$audio_s" "$scan_s" 1)
+peer=$(ratio "$aubio_s" "$scan_s")
+heap_mib=$(ratio "$(value heap_each_bytes "$out/memory.txt")" 1048576 2)
+rss_mib=$(ratio "$(value rss_each_bytes "$out/memory.txt")" 1048576 2)
+echo "== summary (targets are aims printed beside the figures, not tests)"
+printf '%-34s %-34s %s\n' "core alone, block 1024" "${core_rtf}x real time" \
+  "target >= 300x: $(verdict "$core_rtf" ">=" 300)"
+printf '%-34s %-34s %s\n' "plumb scan -j 1, end to end" "${scan_rtf}x real time" \
+  "target >= 300x: $(verdict "$scan_rtf" ">=" 300)"
+printf '%-34s %-34s %s\n' "aubionotes / plumb scan (wall)" "${peer}x" \
+  "target >= 2x: $(verdict "$peer" ">=" 2)"
+printf '%-34s %-34s\n' "whole analysis / bare FFTs" \
+  "$(ratio "$core_s" "$fft_s")x core, $(ratio "$scan_s" "$fft_s")x plumb scan"
+printf '%-34s %-34s %s\n' "memory per instance" "${heap_mib} MiB heap, ${rss_mib} MiB resident" \
+  "target <= 4 MiB: $(verdict "$heap_mib" "<=" 4)"
+printf '%-34s %-34s %s\n' "worst 64-frame call (best run)" \
+  "$(value max_us "$out/latency.txt") us, p99.9 $(value p999_us "$out/latency.txt") us" \
+  "budget $(value budget_us "$out/latency.txt") us"
+printf '%-34s %-34s\n' "worst 64-frame call (floor)" \
+  "$(value floor_max_us "$out/latency.txt") us, p99.9 $(value floor_p999_us "$out/latency.txt") us"
+printf '%-34s %-34s\n' "note F1, |cents| median / p95" \
+  "$(value f1 "$out/accuracy.txt"), $(value cents_median "$out/accuracy.txt") / $(value cents_p95 "$out/accuracy.txt") c"
+[ -n "$instructions" ] && printf '%-34s %-34s\n' "instructions (callgrind)" \
+  "${instructions} M per audio second"
+echo "load average at end: $(cut -d' ' -f1-3 /proc/loadavg)"
+
+if [ -n "$failed" ]; then
+  echo "bench: could not run:$failed" >&2
+  exit 1
+fi
+exit 0
