@@ -30,7 +30,9 @@ struct plumb {
   int pending;
   uint64_t samples_in;
   /* per-frame analysis, kept for the decoding lag */
-  yin_analyser yin;
+  yin_analyser yin;          /* at half the sample rate */
+  halfband_filter halfband;
+  float *half_window;        /* the newest fft_size / 2 decimated samples */
   spectrum_analyser spectrum;
   double threshold_weights[PLUMB_THRESHOLDS];
   fftwf_complex *spectra[PLUMB_SPECTRUM_RING];

@@ -172,7 +172,7 @@ static void drop_outliers(harmonic_set *harmonics, fit_sums *sums, harmonic_fit 
 
 bool harmonics_refine(const fftwf_complex *current,
                       const fftwf_complex *previous, int fft_size, int hop,
-                      double sample_rate_hz, double f0_coarse_hz,
+                      double sample_rate_hz, double f0_coarse_hz, double noise_power,
                       harmonic_set *harmonics, harmonic_fit *fit) {
   memset(harmonics, 0, sizeof *harmonics);
   fit->f0_hz = NAN;
@@ -191,11 +191,7 @@ bool harmonics_refine(const fftwf_complex *current,
   memset(&sums, 0, sizeof sums);
   double harmonic_energy = 0.0;
   int last_harmonic_bin = 0;
-  int range_first = (int)floor(0.5 * f0_coarse_hz / bin_hz);
-  if (range_first < 1) range_first = 1;
-  int range_last = (int)ceil(limit_hz / bin_hz);
-  if (range_last > last_bin - 1) range_last = last_bin - 1;
-  const double floor_power = PLUMB_ABOVE_NOISE * spectrum_noise_floor(current, range_first, range_last);
+  const double floor_power = PLUMB_ABOVE_NOISE * noise_power;
   for (int n = 1; n <= PLUMB_FRAME_HARMONICS; ++n) {
     double expected_hz = expected_harmonic_hz(&sums, n, f0);
     if (expected_hz > limit_hz) break;

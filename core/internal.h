@@ -28,7 +28,7 @@
 /* Frames of a slow attack looked back over, at most (about 0.34 s at 48 kHz). */
 #define PLUMB_PREROLL_FRAMES 32
 /* Voiced frames whose median is a note's running pitch. */
-#define PLUMB_REFERENCE_FRAMES 48
+#define PLUMB_REFERENCE_FRAMES 24
 /* Timeline marks remembered. Power of two. */
 #define PLUMB_TIMELINE_MARKS 64
 
@@ -39,6 +39,20 @@
 fftwf_plan plumb_fft_plan_r2c(int n, float *in, fftwf_complex *out);
 fftwf_plan plumb_fft_plan_c2r(int n, fftwf_complex *in, float *out);
 void plumb_fft_destroy(fftwf_plan plan);
+
+/* ------------------------------------------------------------ halfband.c */
+
+#define PLUMB_HALFBAND_TAPS 31 /* odd; the filter delays by 15 input samples */
+
+typedef struct {
+  double taps[PLUMB_HALFBAND_TAPS];
+} halfband_filter;
+
+void halfband_init(halfband_filter *filter);
+/* Decimate input[0 .. count) (count even) into count / 2 samples; input
+   must be preceded by PLUMB_HALFBAND_TAPS - 1 samples of history. */
+void halfband_decimate(const halfband_filter *filter, const float *input, int count,
+                       float *output);
 
 /* ------------------------------------------------------------ yin.c */
 
@@ -150,13 +164,15 @@ typedef struct {
   float power;
 } spectral_peak;
 
-/* Median power of (at most 256, evenly spread) bins in [first, last]. */
+/* Median power of (at most 128, evenly spread) bins in [first, last]. */
 double spectrum_noise_floor(const fftwf_complex *bins, int first_bin, int last_bin);
 /* The strongest local maxima between low_hz and high_hz that stand within
-   30 dB of the strongest and above the noise floor, strongest first. */
+   30 dB of the strongest and PLUMB_ABOVE_NOISE times above noise_power
+   (from spectrum_noise_floor), strongest first. */
 int spectrum_strong_peaks(const fftwf_complex *current, const fftwf_complex *previous,
                           int fft_size, int hop, double sample_rate_hz, double low_hz,
-                          double high_hz, spectral_peak *peaks, int max_peaks);
+                          double high_hz, double noise_power, spectral_peak *peaks,
+                          int max_peaks);
 
 /* ------------------------------------------------------------ harmonics.c */
 
@@ -172,7 +188,9 @@ typedef struct {
 } harmonic_fit;
 
 /* |X_k|^2 */
-double bin_power(const fftwf_complex *bins, int k);
+static inline double bin_power(const fftwf_complex *bins, int k) {
+  return (double)bins[k][0] * bins[k][0] + (double)bins[k][1] * bins[k][1];
+}
 /* Instantaneous frequency of bin k, in bins, from its phase advance over a
    hop (the phase vocoder). */
 double vocoder_frequency_bins(const fftwf_complex *current,
@@ -184,7 +202,7 @@ double vocoder_frequency_bins(const fftwf_complex *current,
    Puckette 1993). Returns false when too little harmonic energy is found. */
 bool harmonics_refine(const fftwf_complex *current,
                       const fftwf_complex *previous, int fft_size, int hop,
-                      double sample_rate_hz, double f0_coarse_hz,
+                      double sample_rate_hz, double f0_coarse_hz, double noise_power,
                       harmonic_set *harmonics, harmonic_fit *fit);
 
 /* ------------------------------------------------------------ frames */

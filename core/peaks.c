@@ -8,7 +8,7 @@
 
 #include <math.h>
 
-#define NOISE_SAMPLES 256
+#define NOISE_SAMPLES 128
 #define PEAK_RANGE 1e-3 /* 30 dB below the strongest */
 
 double spectrum_noise_floor(const fftwf_complex *bins, int first_bin, int last_bin) {
@@ -35,16 +35,20 @@ static int insert_peak(spectral_peak *peaks, int count, int max_peaks, spectral_
 
 int spectrum_strong_peaks(const fftwf_complex *current, const fftwf_complex *previous,
                           int fft_size, int hop, double sample_rate_hz, double low_hz,
-                          double high_hz, spectral_peak *peaks, int max_peaks) {
+                          double high_hz, double noise_power, spectral_peak *peaks,
+                          int max_peaks) {
   const double bin_hz = sample_rate_hz / fft_size;
   int first = (int)ceil(low_hz / bin_hz), last = (int)floor(high_hz / bin_hz);
   if (first < 1) first = 1;
   if (last > fft_size / 2 - 1) last = fft_size / 2 - 1;
   if (last <= first) return 0;
-  double floor_power = PLUMB_ABOVE_NOISE * spectrum_noise_floor(current, first, last);
+  double floor_power = PLUMB_ABOVE_NOISE * noise_power;
   double strongest = 0.0;
-  for (int k = first; k <= last; ++k) strongest = fmax(strongest, bin_power(current, k));
-  double threshold = fmax(floor_power, PEAK_RANGE * strongest);
+  for (int k = first; k <= last; ++k) {
+    double p = bin_power(current, k);
+    strongest = p > strongest ? p : strongest;
+  }
+  double threshold = floor_power > PEAK_RANGE * strongest ? floor_power : PEAK_RANGE * strongest;
   int count = 0;
   for (int k = first; k <= last; ++k) {
     double p = bin_power(current, k);

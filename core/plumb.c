@@ -32,7 +32,7 @@ static double midi_hz(double midi) { return 440.0 * exp2((midi - 69.0) / 12.0); 
 
 /* Lags searched for the settings' range, with a semitone of margin. */
 static void set_search_range(plumb *self) {
-  double sr = self->settings.sample_rate_hz;
+  double sr = 0.5 * self->settings.sample_rate_hz; /* YIN runs decimated */
   self->lag_min = (int)floor(sr / midi_hz(self->settings.highest_midi + 1.0));
   self->lag_max = (int)ceil(sr / midi_hz(self->settings.lowest_midi - 1.0));
   if (self->lag_max > self->yin.lag_max_samples)
@@ -66,12 +66,16 @@ static plumb_status allocate(plumb *self) {
   int lag_limit = (int)ceil(sr / midi_hz(LOWEST_SUPPORTED_MIDI - 1.0)) + 2;
   self->fft_size = next_power_of_two(yin_window + lag_limit + 2);
   self->hop = self->fft_size / HOP_DIVISOR;
-  plumb_status status = yin_init(&self->yin, self->fft_size, yin_window, lag_limit);
+  plumb_status status =
+      yin_init(&self->yin, self->fft_size / 2, yin_window / 2, lag_limit / 2 + 1);
+  halfband_init(&self->halfband);
   if (status == PLUMB_OK) status = spectrum_init(&self->spectrum, self->fft_size, sr);
   if (status == PLUMB_OK) status = note_tracker_init(&self->tracker);
   if (status == PLUMB_OK) status = note_queue_init(&self->queue);
   if (status != PLUMB_OK) return status;
   self->window = fftwf_alloc_real((size_t)self->fft_size);
+  self->half_window = fftwf_alloc_real((size_t)self->fft_size / 2);
+  if (!self->half_window) return PLUMB_ERR_MEMORY;
   self->scratch = malloc(sizeof(double) * 4 * PLUMB_NOTE_FRAMES_MAX);
   if (!self->window || !self->scratch) return PLUMB_ERR_MEMORY;
   for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) {
@@ -119,6 +123,7 @@ void plumb_free(plumb *self) {
   note_queue_destroy(&self->queue);
   for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) fftwf_free(self->spectra[i]);
   fftwf_free(self->window);
+  fftwf_free(self->half_window);
   free(self->scratch);
   free(self);
 }
@@ -126,6 +131,7 @@ void plumb_free(plumb *self) {
 void plumb_reset(plumb *self) {
   if (!self) return;
   memset(self->window, 0, sizeof(float) * (size_t)self->fft_size);
+  memset(self->half_window, 0, sizeof(float) * (size_t)self->fft_size / 2);
   self->pending = 0;
   self->samples_in = 0;
   self->frames_analysed = 0;

@@ -53,8 +53,19 @@ static float centre_peak(const plumb *self) {
   return peak;
 }
 
+/* Shift the decimated window by half a hop and append the new hop,
+   decimated (the full-rate window holds the filter's history). */
+static void decimate_hop(plumb *self) {
+  int half = self->fft_size / 2, half_hop = self->hop / 2;
+  memmove(self->half_window, self->half_window + half_hop,
+          sizeof(float) * (size_t)(half - half_hop));
+  halfband_decimate(&self->halfband, self->window + self->fft_size - self->hop, self->hop,
+                    self->half_window + half - half_hop);
+}
+
 static void analyse_newest(plumb *self, candidate_set *candidates) {
   uint64_t frame = self->frames_analysed;
+  decimate_hop(self);
   int slot = ring_slot(frame);
   spectrum_transform(&self->spectrum, self->window, self->spectra[slot]);
   spectrum_levels(&self->spectrum, self->spectra[slot], self->band_db[slot],
@@ -70,10 +81,10 @@ static void analyse_newest(plumb *self, candidate_set *candidates) {
   memset(candidates, 0, sizeof *candidates);
   if (self->level_dbfs[slot] < SEARCH_GATE_DBFS) return;
   yin_trough troughs[64];
-  int count = yin_analyse(&self->yin, self->window, self->lag_min, self->lag_max,
+  int count = yin_analyse(&self->yin, self->half_window, self->lag_min, self->lag_max,
                           troughs, 64);
   pitch_prob_candidates(self->threshold_weights, troughs, count,
-                        self->settings.sample_rate_hz, candidates);
+                        0.5 * self->settings.sample_rate_hz, candidates);
 }
 
 static bool in_range(const plumb *self, double f0_hz) {
@@ -96,14 +107,18 @@ static void decide_frame(plumb *self, frame_record *record) {
   record->f0_hz = NAN;
   if (frame == 0 || record->level_dbfs < SEARCH_GATE_DBFS) return;
   const fftwf_complex *previous = self->spectra[ring_slot(frame - 1)];
+  const double bin_hz = self->settings.sample_rate_hz / self->fft_size;
+  double noise_power = spectrum_noise_floor(self->spectra[slot],
+                                            (int)ceil(PEAK_SEARCH_LOW_HZ / bin_hz),
+                                            (int)floor(PEAK_SEARCH_HIGH_HZ / bin_hz));
   record->peak_count = spectrum_strong_peaks(
       self->spectra[slot], previous, self->fft_size, self->hop, self->settings.sample_rate_hz,
-      PEAK_SEARCH_LOW_HZ, PEAK_SEARCH_HIGH_HZ, record->peaks, PLUMB_FRAME_PEAKS);
+      PEAK_SEARCH_LOW_HZ, PEAK_SEARCH_HIGH_HZ, noise_power, record->peaks, PLUMB_FRAME_PEAKS);
   if (state == 0) return;
   harmonic_fit fit;
   bool found = harmonics_refine(self->spectra[slot], previous, self->fft_size, self->hop,
                                 self->settings.sample_rate_hz,
-                                candidates->candidate[state - 1].frequency_hz,
+                                candidates->candidate[state - 1].frequency_hz, noise_power,
                                 &record->harmonics, &fit);
   record->harmonic_ratio = fit.harmonic_ratio;
   if (found && fit.harmonic_ratio >= MIN_HARMONIC_RATIO && in_range(self, fit.f0_hz)) {

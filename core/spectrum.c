@@ -82,10 +82,6 @@ void spectrum_transform(spectrum_analyser *spectrum, const float *frame,
   fftwf_execute_dft_r2c(spectrum->forward, spectrum->windowed, out);
 }
 
-double bin_power(const fftwf_complex *bins, int k) {
-  return (double)bins[k][0] * bins[k][0] + (double)bins[k][1] * bins[k][1];
-}
-
 void spectrum_levels(const spectrum_analyser *spectrum,
                      const fftwf_complex *bins, float *band_db,
                      double *frame_dbfs) {

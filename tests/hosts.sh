@@ -84,7 +84,8 @@ names = ["C", "C#", "D", "D#", "E", "F", "F#", "G", "G#", "A", "A#", "B"]
 take = np.zeros(4 * rate_hz)
 n = int(length_s * rate_hz)
 t_s = np.arange(n) / rate_hz
-ramp = 0.5 - 0.5 * np.cos(np.pi * np.arange(int(ramp_s * rate_hz)) / (ramp_s * rate_hz))
+ramp_n = int(ramp_s * rate_hz)
+ramp = 0.5 - 0.5 * np.cos(np.pi * np.arange(ramp_n) / ramp_n)
 gain = np.ones(n)
 gain[: len(ramp)] = ramp
 gain[n - len(ramp):] = ramp[::-1]
@@ -150,7 +151,8 @@ for row, (midi, cents, name, _) in zip(rows, truth):
         sys.exit("row %s: %s (%s), generated %s (%s)" % (
             row["index"], row["note"], row["midi"], name, midi))
     if not abs(float(row["cents"]) - float(cents)) <= 1.0:
-        sys.exit("row %s: %s cents, generated %s" % (row["index"], row["cents"], cents))
+        sys.exit("row %s: %s cents, generated %s" % (
+            row["index"], row["cents"], cents))
 EOF
 }
 
@@ -222,9 +224,10 @@ BUNDLE=$BUILD_DIR/plumb.lv2
 missing=""
 [ -f "$BUNDLE/plumb.so" ] || missing="$missing $BUNDLE/plumb.so (make all)"
 [ -x "$PLUMB" ] || missing="$missing $PLUMB (make all)"
-command -v lv2file >/dev/null 2>&1 || missing="$missing lv2file (apt-get install lv2file)"
+command -v lv2file >/dev/null 2>&1 ||
+  missing="$missing lv2file (apt-get install lv2file)"
 "$PYTHON" -c 'import numpy, scipy' 2>/dev/null ||
-  missing="$missing $PYTHON with numpy and scipy (apt-get install python3-numpy python3-scipy)"
+  missing="$missing $PYTHON with numpy and scipy (python3-numpy, python3-scipy)"
 if [ -n "$missing" ]; then
   fail "hosts: missing:$missing"
   finish
@@ -266,15 +269,18 @@ for block in 512 64 4096; do
   out=$WORK/lv2file-$block.wav
   run_lv2file "$logs" "$out" "$@"
   check "$name: exit status 0" exits_zero "$status" "$out.stderr"
-  check "$name: out.wav equals in.wav sample for sample" same_audio "$TAKE" "$out"
+  check "$name: out.wav equals in.wav sample for sample" \
+    same_audio "$TAKE" "$out"
   log=$(only_log "$logs")
   if [ -z "$log" ]; then
     fail "$name: exactly one *.notes.csv in PLUMB_LOG_DIR"
+    { ls -A "$logs" 2>&1; cat "$out.stderr"; } | sed 's/^/    # /'
     continue
   fi
   pass "$name: exactly one *.notes.csv in PLUMB_LOG_DIR"
   check "$name: the header of docs/log-format.md" has_documented_header "$log"
-  check "$name: one row a generated note (MIDI, cents)" rows_match_truth "$log" "$TRUTH"
+  check "$name: one row a generated note (MIDI, cents)" \
+    rows_match_truth "$log" "$TRUTH"
   cp "$log" "$WORK/lv2file-$block.csv"
 done
 # Without time:Position, timeline_s is the time since activation, so the
@@ -283,7 +289,8 @@ set -- "$WORK/lv2file-512.csv" "$WORK/lv2file-64.csv" "$WORK/lv2file-4096.csv"
 if [ -f "$1" ] && [ -f "$2" ] && [ -f "$3" ]; then
   check "lv2file: the same log at blocks 512, 64 and 4096" identical "$@"
 else
-  fail "lv2file: the same log at blocks 512, 64 and 4096 (some runs left no log)"
+  fail "lv2file: the same log at blocks 512, 64 and 4096"
+  echo "    # some runs left no log"
 fi
 
 # ------------------------------------------------------------ no log folder
@@ -294,8 +301,10 @@ fi
 unwritable=$WORK/afile/sub
 out=$WORK/lv2file-unwritable.wav
 run_lv2file "$unwritable" "$out"
-check "unwritable log folder: lv2file exit status 0" exits_zero "$status" "$out.stderr"
-check "unwritable log folder: out.wav still equals in.wav" same_audio "$TAKE" "$out"
+check "unwritable log folder: lv2file exit status 0" \
+  exits_zero "$status" "$out.stderr"
+check "unwritable log folder: out.wav still equals in.wav" \
+  same_audio "$TAKE" "$out"
 check "unwritable log folder: one 'plumb: ' line naming the folder" \
   one_plumb_line "$out.stderr" "$unwritable"
 
@@ -316,16 +325,19 @@ for block in 1 64 4096; do
   fi
   pass "$name: the log take.notes.csv (docs/command.md: named after the file)"
   check "$name: the header of docs/log-format.md" has_documented_header "$log"
-  check "$name: one row a generated note (MIDI, cents)" rows_match_truth "$log" "$TRUTH"
+  check "$name: one row a generated note (MIDI, cents)" \
+    rows_match_truth "$log" "$TRUTH"
   check "$name: the flagged table lists the detuned note, and only it" \
     flagged_table_shows "$logs.stdout" "$TRUTH"
 done
 set -- "$WORK/scan-1/take.notes.csv" "$WORK/scan-64/take.notes.csv" \
   "$WORK/scan-4096/take.notes.csv"
 if [ -f "$1" ] && [ -f "$2" ] && [ -f "$3" ]; then
-  check "plumb scan: logs byte-identical at --block 1, 64 and 4096" identical "$@"
+  check "plumb scan: logs byte-identical at --block 1, 64 and 4096" \
+    identical "$@"
 else
-  fail "plumb scan: logs byte-identical at --block 1, 64 and 4096 (some runs left no log)"
+  fail "plumb scan: logs byte-identical at --block 1, 64 and 4096"
+  echo "    # some runs left no log"
 fi
 
 finish
