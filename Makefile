@@ -21,7 +21,7 @@ TEST_DEBS   := lilv-utils lv2file sordi serdi fluidsynth fluid-soundfont-gm \
 
 WARNINGS := -Wall -Wextra -Werror -Wshadow -Wstrict-prototypes \
             -Wmissing-prototypes -Wpointer-arith -Wcast-qual -Wvla
-CFLAGS   ?= -O2 -g
+CFLAGS   ?= -O3 -g
 ALL_CFLAGS = -std=c11 -D_XOPEN_SOURCE=700 $(WARNINGS) $(CFLAGS) \
              -fPIC -fvisibility=hidden -Icore
 # The analysis must not depend on the host's floating-point surprises.
@@ -44,6 +44,8 @@ SAMPLED_TEST_SRC := $(wildcard tests/sampled/test_*.c)
 TEST_BIN  += $(SAMPLED_TEST_SRC:tests/sampled/test_%.c=$(BUILD)/tests/test_sampled_%)
 TTL_SRC   := $(wildcard ttl/*.ttl)
 PRESETS   := $(wildcard presets/*.ttl)
+
+.SECONDARY:
 
 .PHONY: all deps check demo bench clean install install-user uninstall \
         check-ttl check-unit check-hosts format

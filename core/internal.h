@@ -68,7 +68,6 @@ typedef struct {
   float *segment;      /* W + lag_max samples, mean removed */
   float *window_part;  /* the first W samples, zero padded */
   float *correlation;  /* inverse transform output */
-  double *energy_sum;  /* running sum of squares of segment */
   float *cmndf;        /* d'(tau), tau = 0 .. lag_max */
   fftwf_complex *spectrum_segment;
   fftwf_complex *spectrum_window;
@@ -138,6 +137,7 @@ typedef struct {
   int band_count;
   int band_first_bin[PLUMB_BANDS_MAX + 1];
   double window_power;  /* sum of window^2, for dBFS */
+  double windowed_energy; /* of the last frame transformed */
 } spectrum_analyser;
 
 plumb_status spectrum_init(spectrum_analyser *spectrum, int fft_size,
@@ -147,7 +147,8 @@ void spectrum_destroy(spectrum_analyser *spectrum);
    fftwf_alloc_complex). */
 void spectrum_transform(spectrum_analyser *spectrum, const float *frame,
                         fftwf_complex *out);
-/* Band levels in dB (floored) and the frame level in dBFS. */
+/* Band levels in dB (floored) and the frame level in dBFS, of the frame
+   spectrum_transform() made last. */
 void spectrum_levels(const spectrum_analyser *spectrum,
                      const fftwf_complex *bins, float *band_db,
                      double *frame_dbfs);

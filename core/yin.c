@@ -22,12 +22,11 @@ plumb_status yin_init(yin_analyser *yin, int fft_size, int window_samples,
   yin->segment = fftwf_alloc_real((size_t)fft_size);
   yin->window_part = fftwf_alloc_real((size_t)fft_size);
   yin->correlation = fftwf_alloc_real((size_t)fft_size);
-  yin->energy_sum = fftwf_malloc(sizeof(double) * (size_t)(fft_size + 1));
   yin->cmndf = fftwf_alloc_real((size_t)lag_max_samples + 2);
   yin->spectrum_segment = fftwf_alloc_complex((size_t)bins);
   yin->spectrum_window = fftwf_alloc_complex((size_t)bins);
   if (!yin->segment || !yin->window_part || !yin->correlation ||
-      !yin->energy_sum || !yin->cmndf || !yin->spectrum_segment ||
+      !yin->cmndf || !yin->spectrum_segment ||
       !yin->spectrum_window) {
     yin_destroy(yin);
     return PLUMB_ERR_MEMORY;
@@ -51,7 +50,6 @@ void yin_destroy(yin_analyser *yin) {
   fftwf_free(yin->segment);
   fftwf_free(yin->window_part);
   fftwf_free(yin->correlation);
-  fftwf_free(yin->energy_sum);
   fftwf_free(yin->cmndf);
   fftwf_free(yin->spectrum_segment);
   fftwf_free(yin->spectrum_window);
@@ -62,26 +60,28 @@ int yin_segment_offset(const yin_analyser *yin) {
   return (yin->fft_size - yin->window_samples - yin->lag_max_samples) / 2;
 }
 
-/* Copy the centred segment, remove its mean (DC would otherwise lower
-   d(tau) at every lag alike) and keep running sums of squares. */
+/* Copy the centred segment and remove its mean (DC would otherwise lower
+   d(tau) at every lag alike). Sums run in four interleaved parts so the
+   additions pipeline; the order is fixed, so results repeat exactly.
+   Returns the energy of the first W samples. */
 static double load_segment(yin_analyser *yin, const float *frame) {
-  int length = yin->window_samples + yin->lag_max_samples;
+  const int length = yin->window_samples + yin->lag_max_samples;
+  const int whole = length - length % 4;
   const float *source = frame + yin_segment_offset(yin);
-  double mean = 0.0;
-  for (int i = 0; i < length; ++i) mean += source[i];
-  mean /= length;
-  double sum = 0.0;
-  yin->energy_sum[0] = 0.0;
-  for (int i = 0; i < length; ++i) {
-    float value = (float)(source[i] - mean);
-    yin->segment[i] = value;
-    sum += (double)value * value;
-    yin->energy_sum[i + 1] = sum;
-  }
+  double part[4] = {0.0, 0.0, 0.0, 0.0};
+  for (int i = 0; i < whole; i += 4)
+    for (int j = 0; j < 4; ++j) part[j] += source[i + j];
+  for (int i = whole; i < length; ++i) part[0] += source[i];
+  const float mean = (float)(((part[0] + part[1]) + (part[2] + part[3])) / length);
+  for (int i = 0; i < length; ++i) yin->segment[i] = source[i] - mean;
   for (int i = length; i < yin->fft_size; ++i) yin->segment[i] = 0.0f;
-  memcpy(yin->window_part, yin->segment,
-         sizeof(float) * (size_t)yin->window_samples);
-  return yin->energy_sum[yin->window_samples];
+  memcpy(yin->window_part, yin->segment, sizeof(float) * (size_t)yin->window_samples);
+  double energy[4] = {0.0, 0.0, 0.0, 0.0};
+  const int w = yin->window_samples, w_whole = w - w % 4;
+  for (int i = 0; i < w_whole; i += 4)
+    for (int j = 0; j < 4; ++j) energy[j] += (double)yin->segment[i + j] * yin->segment[i + j];
+  for (int i = w_whole; i < w; ++i) energy[0] += (double)yin->segment[i] * yin->segment[i];
+  return (energy[0] + energy[1]) + (energy[2] + energy[3]);
 }
 
 static void correlate(yin_analyser *yin) {
@@ -98,13 +98,17 @@ static void correlate(yin_analyser *yin) {
   fftwf_execute_dft_c2r(yin->inverse, yin->spectrum_segment, yin->correlation);
 }
 
+/* d(tau) = E_0 + E_tau - 2 r(tau), with the energy E_tau of the window
+   starting at tau slid along one sample at a time, then normalised by its
+   cumulative mean (YIN step 3). */
 static void normalise(yin_analyser *yin, int lag_max, double energy_0) {
   const double scale = 1.0 / yin->fft_size; /* FFTW does not normalise */
   const int w = yin->window_samples;
-  double running = 0.0;
+  const float *x = yin->segment;
+  double energy_tau = energy_0, running = 0.0;
   yin->cmndf[0] = 1.0f;
   for (int tau = 1; tau <= lag_max + 1; ++tau) {
-    double energy_tau = yin->energy_sum[tau + w] - yin->energy_sum[tau];
+    energy_tau += (double)x[tau + w - 1] * x[tau + w - 1] - (double)x[tau - 1] * x[tau - 1];
     double d = energy_0 + energy_tau - 2.0 * scale * yin->correlation[tau];
     if (d < 0.0) d = 0.0;
     running += d;
