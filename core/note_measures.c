@@ -12,6 +12,7 @@
 /* Common practice, no source; tuned on the project's test takes. */
 #define EDGE_TRIM_FRAMES 2         /* window overlap with what comes before/after */
 #define STEADY_BAND_CENTS 25.0     /* attack scoops and release glides lie outside */
+#define STEADY_LEVEL_RANGE_DB 20.0 /* common practice, no source */
 #define MIN_VOICED_FRACTION 0.4    /* below this an event has no definite pitch */
 #define MIN_HARMONIC_RATIO 0.5
 #define VIBRATO_MIN_HZ 3.0
@@ -52,6 +53,7 @@ static void clear_note(plumb_note *note) {
 typedef struct {
   int first, last;      /* inclusive frame range */
   double reference_hz;  /* cents are measured from here */
+  double band_cents;    /* frames further from it are slips, not pitch */
 } steady_part;
 
 static bool find_steady_part(const measure_context *context,
@@ -72,6 +74,21 @@ static bool find_steady_part(const measure_context *context,
     first = count > 3 * EDGE_TRIM_FRAMES ? EDGE_TRIM_FRAMES : 0;
     last = count - 1 - first;
   }
+  /* A dying note's tail (a piano string's slower second decay, a release
+     that rings on) is not its pitch: the steady part ends where the level
+     has fallen STEADY_LEVEL_RANGE_DB below the note's peak. */
+  double peak_dbfs = frames[first].level_dbfs;
+  for (int i = first; i <= last; ++i)
+    if (frames[i].level_dbfs > peak_dbfs) peak_dbfs = frames[i].level_dbfs;
+  int loudest = first;
+  while (frames[loudest].level_dbfs < peak_dbfs) ++loudest;
+  int end = last;
+  for (int i = loudest; i <= last; ++i)
+    if (frames[i].level_dbfs < peak_dbfs - STEADY_LEVEL_RANGE_DB) {
+      end = i - 1;
+      break;
+    }
+  if (end - first >= 2) last = end;
   int n = 0;
   for (int i = first; i <= last; ++i)
     if (frames[i].voiced) scratch[n++] = frames[i].f0_hz;
@@ -91,18 +108,25 @@ static bool find_steady_part(const measure_context *context,
   part->first = first;
   part->last = last;
   part->reference_hz = reference_hz;
+  part->band_cents = band;
   return last - first >= 2;
 }
 
-/* Cents of every frame of the steady part on a uniform grid; unvoiced
-   frames inside it are bridged linearly. Returns the number of samples. */
+/* Whether a frame of the steady part carries the note's pitch: voiced,
+   and not a slip (an octave or a stray partial) out of the band. */
+static bool steady_frame(const frame_record *f, const steady_part *part) {
+  return f->voiced && fabs(frame_cents(f, part->reference_hz)) <= part->band_cents;
+}
+
+/* Cents of every frame of the steady part on a uniform grid; frames
+   without the note's pitch are bridged linearly. Returns the count. */
 static int uniform_cents(const frame_record *frames, const steady_part *part,
                          double *cents) {
   int n = part->last - part->first + 1;
   int previous = -1;
   for (int i = 0; i < n; ++i) {
     const frame_record *f = &frames[part->first + i];
-    if (!f->voiced) continue;
+    if (!steady_frame(f, part)) continue;
     cents[i] = frame_cents(f, part->reference_hz);
     for (int j = previous + 1; j < i; ++j)
       cents[j] = previous < 0 ? cents[i]
@@ -236,19 +260,26 @@ static void measure_cycles(const double *cents, const double *residual, int n,
 }
 
 /* Robust mean: the mean of the values within 3 scaled MADs of the median. */
+#define TAPER_FRACTION 0.25
 static double robust_mean(const double *values, int n, double *scratch) {
   memcpy(scratch, values, sizeof(double) * (size_t)n);
   double median = stats_median(scratch, n);
   for (int i = 0; i < n; ++i) scratch[i] = fabs(values[i] - median);
   double limit = fmax(3.0 * 1.4826 * stats_median(scratch, n), 1.0);
-  double sum = 0.0;
-  int kept = 0;
-  for (int i = 0; i < n; ++i)
-    if (fabs(values[i] - median) <= limit) {
-      sum += values[i];
-      ++kept;
-    }
-  return kept > 0 ? sum / kept : median;
+  /* Weighted by a Tukey taper (a quarter of the length at each end): a
+     pitch that moves within the note then reads the same whether the
+     frame grid puts one frame more or less at the ends. */
+  double sum = 0.0, weights = 0.0;
+  for (int i = 0; i < n; ++i) {
+    if (fabs(values[i] - median) > limit) continue;
+    double position = n > 1 ? (double)i / (n - 1) : 0.5;
+    double edge = position < 0.5 ? position : 1.0 - position;
+    double w = edge >= TAPER_FRACTION ? 1.0
+                                      : 0.5 - 0.5 * cos(M_PI * edge / TAPER_FRACTION);
+    sum += w * values[i];
+    weights += w;
+  }
+  return weights > 0.0 ? sum / weights : median;
 }
 
 /*
@@ -271,7 +302,7 @@ static partial_fit fit_partials(const frame_record *frames,
   double ratio[PLUMB_FRAME_HARMONICS] = {0};
   for (int i = part->first; i <= part->last; ++i) {
     const frame_record *f = &frames[i];
-    if (!f->voiced) continue;
+    if (!steady_frame(f, part)) continue;
     for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
       double a = f->harmonics.amplitude[k];
       if (!(a > 0.0)) continue;
@@ -331,7 +362,7 @@ static double spread_of(const frame_record *frames, const steady_part *part,
   *sum_probability = *sum_ratio = 0.0;
   *voiced = 0;
   for (int i = part->first; i <= part->last; ++i) {
-    if (!frames[i].voiced) continue;
+    if (!steady_frame(&frames[i], part)) continue;
     double d = frame_cents(&frames[i], part->reference_hz) - centre_cents;
     sum += d * d;
     *sum_probability += frames[i].voiced_probability;
