@@ -25,6 +25,26 @@ static double frame_cents(const frame_record *frame, double reference_hz) {
   return 1200.0 * log2(frame->f0_hz / reference_hz);
 }
 
+/* A frame's fundamental under the note's stiff-string model: every partial
+   found gives f_n / (n sqrt(1 + B n^2)), weighted by a_n^2 n^2 as in the
+   frame fit. Unlike a harmonic fit corrected afterwards, it does not move
+   when a frame lacks one partial or another. */
+static double model_f0_hz(const frame_record *frame, double b) {
+  double weighted = 0.0, total = 0.0;
+  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
+    double a = frame->harmonics.amplitude[k];
+    if (!(a > 0.0)) continue;
+    double n = k + 1, w = a * a * n * n;
+    weighted += w * frame->harmonics.frequency_hz[k] / (n * sqrt(1.0 + b * n * n));
+    total += w;
+  }
+  return total > 0.0 ? weighted / total : frame->f0_hz;
+}
+
+static double model_cents(const frame_record *frame, double b, double reference_hz) {
+  return 1200.0 * log2(model_f0_hz(frame, b) / reference_hz);
+}
+
 static void leave_unpitched(plumb_note *note) {
   note->midi = -1;
   note->target_hz = note->f0_hz = note->cents = NAN;
@@ -120,14 +140,14 @@ static bool steady_frame(const frame_record *f, const steady_part *part) {
 
 /* Cents of every frame of the steady part on a uniform grid; frames
    without the note's pitch are bridged linearly. Returns the count. */
-static int uniform_cents(const frame_record *frames, const steady_part *part,
+static int uniform_cents(const frame_record *frames, const steady_part *part, double b,
                          double *cents) {
   int n = part->last - part->first + 1;
   int previous = -1;
   for (int i = 0; i < n; ++i) {
     const frame_record *f = &frames[part->first + i];
     if (!steady_frame(f, part)) continue;
-    cents[i] = frame_cents(f, part->reference_hz);
+    cents[i] = model_cents(f, b, part->reference_hz);
     for (int j = previous + 1; j < i; ++j)
       cents[j] = previous < 0 ? cents[i]
                               : cents[previous] + (cents[i] - cents[previous]) *
@@ -292,8 +312,9 @@ static double robust_mean(const double *values, int n, double *scratch) {
   significant, the harmonic model (B = 0) is fitted instead.
 */
 typedef struct {
-  double scale; /* c: true f0 / frame-fit f0 */
-  double b;     /* NaN when fewer than three partials */
+  double scale;   /* c: true f0 / frame-fit f0 */
+  double b;       /* NaN when fewer than three partials */
+  double model_b; /* b where it is significant, else 0 (the harmonic model) */
 } partial_fit;
 
 static partial_fit fit_partials(const frame_record *frames,
@@ -324,7 +345,7 @@ static partial_fit fit_partials(const frame_record *frames,
     sxy += w * x * y;
     ++used;
   }
-  partial_fit fit = {1.0, NAN};
+  partial_fit fit = {1.0, NAN, 0.0};
   if (used == 0) return fit;
   fit.scale = sqrt(sy / sw);
   double determinant = sw * sxx - sx * sx;
@@ -341,8 +362,10 @@ static partial_fit fit_partials(const frame_record *frames,
   }
   double slope_se = sqrt(residual / (used - 2) * sw / determinant);
   fit.b = slope > 0.0 && intercept > 0.0 ? slope / intercept : 0.0;
-  if (slope > 0.0 && intercept > 0.0 && slope > 3.0 * slope_se)
+  if (slope > 0.0 && intercept > 0.0 && slope > 3.0 * slope_se) {
     fit.scale = sqrt(intercept);
+    fit.model_b = fit.b;
+  }
   return fit;
 }
 
@@ -355,7 +378,7 @@ static plumb_verdict judge(const measure_context *context, const plumb_note *not
   return PLUMB_VERDICT_IN_TUNE;
 }
 
-static double spread_of(const frame_record *frames, const steady_part *part,
+static double spread_of(const frame_record *frames, const steady_part *part, double b,
                         double centre_cents, double *sum_probability,
                         double *sum_ratio, int *voiced) {
   double sum = 0.0;
@@ -363,7 +386,7 @@ static double spread_of(const frame_record *frames, const steady_part *part,
   *voiced = 0;
   for (int i = part->first; i <= part->last; ++i) {
     if (!steady_frame(&frames[i], part)) continue;
-    double d = frame_cents(&frames[i], part->reference_hz) - centre_cents;
+    double d = model_cents(&frames[i], b, part->reference_hz) - centre_cents;
     sum += d * d;
     *sum_probability += frames[i].voiced_probability;
     *sum_ratio += frames[i].harmonic_ratio;
@@ -532,7 +555,7 @@ static void stray_amplitude(const frame_record *f, double f0_hz, double b,
 }
 
 static bool fits_no_series(const measure_context *context, const frame_record *frames,
-                           int count, double f0_hz, double scale, double b) {
+                           int count, double f0_hz, double b) {
   double slack_hz = 0.6 * context->sample_rate_hz / context->fft_size;
   if (!isfinite(b) || b < 0.0) b = 0.0;
   int loudest = 0;
@@ -546,9 +569,10 @@ static bool fits_no_series(const measure_context *context, const frame_record *f
        drift do not count as stray; an unvoiced one (an attack, a scoop)
        or one whose pitch slipped far from the note's against the note's,
        with more room. */
+    double own_f0_hz = frames[i].voiced ? model_f0_hz(&frames[i], b) : f0_hz;
     bool own = frames[i].voiced &&
-               fabs(1200.0 * log2(scale * frames[i].f0_hz / f0_hz)) <= OWN_PITCH_RANGE_CENTS;
-    stray_amplitude(&frames[i], own ? scale * frames[i].f0_hz : f0_hz, b,
+               fabs(1200.0 * log2(own_f0_hz / f0_hz)) <= OWN_PITCH_RANGE_CENTS;
+    stray_amplitude(&frames[i], own ? own_f0_hz : f0_hz, b,
                     own ? SERIES_TOLERANCE_CENTS : UNVOICED_TOLERANCE_CENTS, slack_hz,
                     &stray, &total);
     if (!(total > 0.0)) continue;
@@ -585,8 +609,10 @@ void note_measure(const measure_context *context, const frame_record *frames,
     leave_unpitched(note);
     return;
   }
+  partial_fit fit = fit_partials(frames, &part);
+  note->inharmonicity_b = fit.b;
   double *cents = scratch;
-  int n = uniform_cents(frames, &part, cents);
+  int n = uniform_cents(frames, &part, fit.model_b, cents);
   vibrato_reading vibrato;
   measure_drift_and_vibrato(context, cents, n, scratch + n, &vibrato,
                             &note->drift_cents_per_s);
@@ -594,7 +620,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
                                         : robust_mean(cents, n, scratch + n);
   double sum_probability, sum_ratio;
   int steady_voiced;
-  note->spread_cents = spread_of(frames, &part, centre_cents, &sum_probability,
+  note->spread_cents = spread_of(frames, &part, fit.model_b, centre_cents, &sum_probability,
                                  &sum_ratio, &steady_voiced);
   if (sum_ratio / steady_voiced < MIN_HARMONIC_RATIO) {
     leave_unpitched(note);
@@ -604,11 +630,10 @@ void note_measure(const measure_context *context, const frame_record *frames,
     note->vibrato_hz = vibrato.rate_hz;
     note->vibrato_cents = vibrato.extent_cents;
   }
-  partial_fit fit = fit_partials(frames, &part);
-  note->inharmonicity_b = fit.b;
-  note->f0_hz = fit.scale * part.reference_hz * exp2(centre_cents / 1200.0);
+  /* The cents are of the model's fundamental, so the centre is f0 itself. */
+  note->f0_hz = part.reference_hz * exp2(centre_cents / 1200.0);
   if (frames[0].legato_start ? context->previous_unpitched
-                             : fits_no_series(context, frames, count, note->f0_hz, fit.scale, fit.b)) {
+                             : fits_no_series(context, frames, count, note->f0_hz, fit.model_b)) {
     leave_unpitched(note);
     return;
   }
