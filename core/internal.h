@@ -28,7 +28,7 @@
 /* Frames of a slow attack looked back over, at most (about 0.34 s at 48 kHz). */
 #define PLUMB_PREROLL_FRAMES 32
 /* Voiced frames whose median is a note's running pitch. */
-#define PLUMB_REFERENCE_FRAMES 24
+#define PLUMB_REFERENCE_FRAMES 48
 /* Timeline marks remembered. Power of two. */
 #define PLUMB_TIMELINE_MARKS 64
 

@@ -31,7 +31,7 @@
 #define REARTICULATION_MIN_DB 1.0
 #define DIP_SPAN_S 0.065
 #define PITCH_CHANGE_CENTS 50.0
-#define SMOOTHING_S 0.15           /* about one vibrato cycle */
+#define SMOOTHING_S 0.25           /* a whole vibrato cycle down to 4 Hz */
 #define REFERENCE_SKIP_FRAMES 2    /* attack frames kept out of the reference */
 
 plumb_status note_tracker_init(note_tracker *tracker) {
@@ -115,7 +115,24 @@ static void close_note(note_tracker *tracker, int count, note_sink sink,
   tracker->active = kept > 0;
 }
 
-/* The reference is the median of the newest voiced frames, so that a
+/* The mean of values with the highest and lowest sixth left out: vibrato
+   over whole cycles averages out of it (a median of a sinusoid over a
+   cycle and a bit sits off its centre), and a stray frame cannot move it.
+   Sorts values in place (n is at most PLUMB_REFERENCE_FRAMES). */
+static double trimmed_mean(double *values, int n) {
+  for (int i = 1; i < n; ++i)
+    for (int j = i; j > 0 && values[j - 1] > values[j]; --j) {
+      double t = values[j];
+      values[j] = values[j - 1];
+      values[j - 1] = t;
+    }
+  int cut = n / 6;
+  double sum = 0.0;
+  for (int i = cut; i < n - cut; ++i) sum += values[i];
+  return sum / (n - 2 * cut);
+}
+
+/* The reference is the trimmed mean of the newest voiced frames, so that a
    stray frame (an octave slip in an attack) cannot move it. */
 static void add_reference(note_tracker *tracker, double midi) {
   tracker->reference_values[tracker->reference_n % PLUMB_REFERENCE_FRAMES] = midi;
@@ -124,7 +141,7 @@ static void add_reference(note_tracker *tracker, double midi) {
                                                            : PLUMB_REFERENCE_FRAMES;
   double sorted[PLUMB_REFERENCE_FRAMES];
   memcpy(sorted, tracker->reference_values, sizeof(double) * (size_t)kept);
-  tracker->reference_midi = stats_median(sorted, kept);
+  tracker->reference_midi = trimmed_mean(sorted, kept);
 }
 
 static void rebuild_reference(note_tracker *tracker, int from) {
@@ -135,8 +152,8 @@ static void rebuild_reference(note_tracker *tracker, int from) {
   tracker->change_run = 0;
 }
 
-/* The median pitch of about one vibrato cycle of the newest frames: it
-   follows note changes but neither vibrato nor a stray frame. */
+/* The pitch of about one vibrato cycle of the newest frames: it follows
+   note changes but neither vibrato nor a stray frame. */
 static double smoothed_midi(const note_tracker *tracker) {
   int span = (int)lround(SMOOTHING_S / tracker->hop_s);
   if (span > PLUMB_REFERENCE_FRAMES) span = PLUMB_REFERENCE_FRAMES;
@@ -144,7 +161,7 @@ static double smoothed_midi(const note_tracker *tracker) {
   int n = 0;
   for (int i = tracker->count - 1; i >= 0 && n < span; --i)
     if (tracker->frames[i].voiced) values[n++] = frame_midi(&tracker->frames[i]);
-  return n > 0 ? stats_median(values, n) : NAN;
+  return n > 0 ? trimmed_mean(values, n) : NAN;
 }
 
 /* Where a legato change begins: the first frame of the new pitch, moved
@@ -178,14 +195,20 @@ static int change_start(const note_tracker *tracker) {
 static void follow_pitch(note_tracker *tracker, const frame_record *frame,
                          note_sink sink, void *context) {
   if (!frame->voiced) return;
-  if (tracker->reference_n < 3) {
+  /* The reference is first built over a whole vibrato cycle, so that it
+     starts at the note's centre, not at a swing. */
+  int building = (int)lround(SMOOTHING_S / tracker->hop_s);
+  if (tracker->reference_n < (building > 3 ? building : 3)) {
     if (tracker->count > REFERENCE_SKIP_FRAMES) add_reference(tracker, frame_midi(frame));
     return;
   }
   double away_cents = fabs(smoothed_midi(tracker) - tracker->reference_midi) * 100.0;
   if (away_cents <= PITCH_CHANGE_CENTS) {
     tracker->change_run = 0;
-    add_reference(tracker, frame_midi(frame));
+    /* Frames join the reference only while the present agrees with it:
+       the first frames of a new note must not drag it along before the
+       change is seen. */
+    if (away_cents <= 0.5 * PITCH_CHANGE_CENTS) add_reference(tracker, frame_midi(frame));
     return;
   }
   if (++tracker->change_run < tracker->min_note_frames) return;
