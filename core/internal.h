@@ -165,7 +165,7 @@ typedef struct {
   float power;
 } spectral_peak;
 
-/* Median power of (at most 128, evenly spread) bins in [first, last]. */
+/* Median power of (at most 64, evenly spread) bins in [first, last]. */
 double spectrum_noise_floor(const fftwf_complex *bins, int first_bin, int last_bin);
 /* The strongest local maxima between low_hz and high_hz that stand within
    30 dB of the strongest and PLUMB_ABOVE_NOISE times above noise_power

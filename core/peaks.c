@@ -8,7 +8,7 @@
 
 #include <math.h>
 
-#define NOISE_SAMPLES 128
+#define NOISE_SAMPLES 64
 #define PEAK_RANGE 1e-3 /* 30 dB below the strongest */
 
 double spectrum_noise_floor(const fftwf_complex *bins, int first_bin, int last_bin) {
