@@ -94,7 +94,8 @@ static bool in_range(const plumb *self, double f0_hz) {
 }
 
 static void decide_frame(plumb *self, frame_record *record) {
-  uint64_t frame = self->frames_analysed - PLUMB_DECODE_LAG;
+  /* the frame the decoder decides: PLUMB_DECODE_LAG before the newest */
+  uint64_t frame = self->frames_analysed - 1 - PLUMB_DECODE_LAG;
   int slot = ring_slot(frame);
   int state = viterbi_decide(&self->decoder, PLUMB_DECODE_LAG);
   const candidate_set *candidates = viterbi_frame(&self->decoder, PLUMB_DECODE_LAG);
