@@ -13,6 +13,7 @@
 #define EDGE_TRIM_FRAMES 2         /* window overlap with what comes before/after */
 #define STEADY_BAND_CENTS 25.0     /* attack scoops and release glides lie outside */
 #define STEADY_LEVEL_RANGE_DB 20.0 /* common practice, no source */
+#define ATTACK_END_DB 3.0          /* common practice, no source */
 #define MIN_VOICED_FRACTION 0.4    /* below this an event has no definite pitch */
 #define MIN_HARMONIC_RATIO 0.5
 #define VIBRATO_MIN_HZ 3.0
@@ -102,6 +103,12 @@ static bool find_steady_part(const measure_context *context,
     if (frames[i].level_dbfs > peak_dbfs) peak_dbfs = frames[i].level_dbfs;
   int loudest = first;
   while (frames[loudest].level_dbfs < peak_dbfs) ++loudest;
+  /* The attack is not the pitch either: the steady part starts where the
+     level has risen to within ATTACK_END_DB of the peak (at once for a
+     struck or plucked note; after the bow, breath or voice has settled). */
+  int attack_end = first;
+  while (attack_end < loudest && frames[attack_end].level_dbfs < peak_dbfs - ATTACK_END_DB)
+    ++attack_end;
   int end = last;
   for (int i = loudest; i <= last; ++i)
     if (frames[i].level_dbfs < peak_dbfs - STEADY_LEVEL_RANGE_DB) {
@@ -109,6 +116,7 @@ static bool find_steady_part(const measure_context *context,
       break;
     }
   if (end - first >= 2) last = end;
+  if (last - attack_end >= 2) first = attack_end;
   int n = 0;
   for (int i = first; i <= last; ++i)
     if (frames[i].voiced) scratch[n++] = frames[i].f0_hz;
