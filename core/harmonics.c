@@ -6,7 +6,8 @@
   frequency, which has no bias on a steady sinusoid (Brown & Puckette 1993).
   The harmonics are searched from the lowest up, and after each one the
   fundamental is re-fitted, so that the search window for the next harmonic
-  narrows as the estimate improves. The fit is weighted least squares of
+  is centred on the refitted estimate: the coarse estimate's 1 % at first,
+  then the acceptance window of 30 cents. The fit is weighted least squares of
   f_n = n f0 with weights |X_n|^2, since the variance of a peak's frequency
   estimate falls with its power (Rife & Boorstyn 1974).
 */

@@ -19,7 +19,8 @@
 #define PLUMB_DECODE_LAG 8
 /* Spectra kept for decisions: the lag, the frame before it, and slack. */
 #define PLUMB_SPECTRUM_RING (PLUMB_DECODE_LAG + 3)
-/* Frames one note keeps; a longer note is measured over its first part. */
+/* Frames one note keeps; a longer note is closed there and the sound goes
+   on as a new note. */
 #define PLUMB_NOTE_FRAMES_MAX 4096
 /* Completed notes waiting for the consumer. Power of two. */
 #define PLUMB_QUEUE_CAPACITY 256
@@ -27,7 +28,7 @@
 #define PLUMB_BANDS_MAX 40
 /* Frames of a slow attack looked back over, at most (about 0.34 s at 48 kHz). */
 #define PLUMB_PREROLL_FRAMES 32
-/* Voiced frames whose median is a note's running pitch. */
+/* Voiced frames whose trimmed mean is a note's running pitch. */
 #define PLUMB_REFERENCE_FRAMES 48
 /* Timeline marks remembered. Power of two. */
 #define PLUMB_TIMELINE_MARKS 64

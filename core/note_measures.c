@@ -311,16 +311,16 @@ static double robust_mean(const double *values, int n, double *scratch) {
 }
 
 /*
-  The fundamental from the partials, with the stiff-string model
-  f_n = n f0 sqrt(1 + B n^2) (Fletcher 1964). Each frame's pitch f_t is a
-  fit of f_n = n f_t, so ratio_n = f_n / (n f_t) is free of vibrato; its
-  square is linear in n^2: ratio_n^2 = c^2 + c^2 B n^2. Weighted least
-  squares on n^2 gives c and B (in the manner of the partial-frequency
-  deviation estimators, Rauhala, Lehtonen & Valimaki 2007). Where B is not
-  significant, the harmonic model (B = 0) is fitted instead.
+  The inharmonicity B of the stiff-string model f_n = n f0 sqrt(1 + B n^2)
+  (Fletcher 1964). Each frame's pitch f_t is a fit of f_n = n f_t, so
+  ratio_n = f_n / (n f_t) is free of vibrato; its square is linear in n^2:
+  ratio_n^2 = c^2 + c^2 B n^2, and weighted least squares on n^2 gives B =
+  slope / intercept (in the manner of the partial-frequency deviation
+  estimators, Rauhala, Lehtonen & Valimaki 2007). The note's pitch is then
+  measured under the model (model_f0_hz) where B stands three standard
+  errors clear of zero, under the harmonic model (B = 0) otherwise.
 */
 typedef struct {
-  double scale;   /* c: true f0 / frame-fit f0 */
   double b;       /* NaN when fewer than three partials */
   double model_b; /* b where it is significant, else 0 (the harmonic model) */
 } partial_fit;
@@ -353,9 +353,8 @@ static partial_fit fit_partials(const frame_record *frames,
     sxy += w * x * y;
     ++used;
   }
-  partial_fit fit = {1.0, NAN, 0.0};
+  partial_fit fit = {NAN, 0.0};
   if (used == 0) return fit;
-  fit.scale = sqrt(sy / sw);
   double determinant = sw * sxx - sx * sx;
   if (used < 3 || !(determinant > 0.0)) return fit;
   double slope = (sw * sxy - sx * sy) / determinant;
@@ -370,10 +369,7 @@ static partial_fit fit_partials(const frame_record *frames,
   }
   double slope_se = sqrt(residual / (used - 2) * sw / determinant);
   fit.b = slope > 0.0 && intercept > 0.0 ? slope / intercept : 0.0;
-  if (slope > 0.0 && intercept > 0.0 && slope > 3.0 * slope_se) {
-    fit.scale = sqrt(intercept);
-    fit.model_b = fit.b;
-  }
+  if (slope > 0.0 && intercept > 0.0 && slope > 3.0 * slope_se) fit.model_b = fit.b;
   return fit;
 }
 
@@ -424,7 +420,7 @@ static void measure_drift_and_vibrato(const measure_context *context,
   Onset and offset times from the frame levels. The level of a Hann-windowed
   frame is half (-3 dB) its full value when a sudden start or stop sits at
   the frame centre, and reaches any other fraction at a lead that the
-  window's shape fixes (see onset_lead_s in plumb.c), so level crossings,
+  window's shape fixes (window_step_lead_s in spectrum.c), so level crossings,
   interpolated between frames, place a note's ends free of the window's
   length.
 */

@@ -174,7 +174,9 @@ typedef struct {
   double tolerance_cents;  /* sharp/flat beyond +-tolerance */
   int lowest_midi;         /* search range, default 28 (E1) */
   int highest_midi;        /* default 96 (C7) */
-  double min_note_ms;      /* shortest note, and shortest held change */
+  double min_note_ms;      /* shortest held pitch change (legato) and shortest
+                              spacing of re-articulations; shorter events are
+                              still reported */
 } plumb_settings;
 
 /* Defaults: equal temperament at 440 Hz, 10 cents, E1..C7, 80 ms. */
