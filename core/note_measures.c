@@ -323,22 +323,30 @@ static double robust_mean(const double *values, int n, double *scratch) {
 typedef struct {
   double b;       /* NaN when fewer than three partials */
   double model_b; /* b where it is significant, else 0 (the harmonic model) */
+  int partials;   /* harmonics found in at least half the steady frames */
 } partial_fit;
 
 static partial_fit fit_partials(const frame_record *frames,
                                 const steady_part *part) {
   double weight[PLUMB_FRAME_HARMONICS] = {0};
   double ratio[PLUMB_FRAME_HARMONICS] = {0};
+  int found[PLUMB_FRAME_HARMONICS] = {0};
+  int steady_frames = 0;
   for (int i = part->first; i <= part->last; ++i) {
     const frame_record *f = &frames[i];
     if (!steady_frame(f, part)) continue;
+    steady_frames++;
     for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
       double a = f->harmonics.amplitude[k];
       if (!(a > 0.0)) continue;
+      found[k]++;
       weight[k] += a * a;
       ratio[k] += a * a * f->harmonics.frequency_hz[k] / ((k + 1) * f->f0_hz);
     }
   }
+  partial_fit fit = {NAN, 0.0, 0};
+  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k)
+    fit.partials += steady_frames > 0 && 2 * found[k] >= steady_frames;
   double sw = 0.0, sx = 0.0, sy = 0.0, sxx = 0.0, sxy = 0.0;
   int used = 0;
   for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
@@ -353,7 +361,6 @@ static partial_fit fit_partials(const frame_record *frames,
     sxy += w * x * y;
     ++used;
   }
-  partial_fit fit = {NAN, 0.0};
   if (used == 0) return fit;
   double determinant = sw * sxx - sx * sx;
   if (used < 3 || !(determinant > 0.0)) return fit;
@@ -615,6 +622,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
   }
   partial_fit fit = fit_partials(frames, &part);
   note->inharmonicity_b = fit.b;
+  note->partials = fit.partials;
   double *cents = scratch;
   int n = uniform_cents(frames, &part, fit.model_b, cents);
   vibrato_reading vibrato;
