@@ -19,6 +19,10 @@
 /* A decided frame is voiced only if this share of its energy lies in
    harmonic peaks. Common practice, no source. */
 #define MIN_HARMONIC_RATIO 0.4
+/* A frame the decoder left unvoiced needs this much, from at least this
+   many partials. Common practice, no source. */
+#define SPECTRAL_VOICING_RATIO 0.85
+#define SPECTRAL_VOICING_PARTIALS 6
 /* Samples beyond this magnitude (60 dB over full scale) are clipped. */
 #define SAMPLE_LIMIT 1000.0f
 

@@ -198,15 +198,18 @@ bool harmonics_refine(const fftwf_complex *current,
     if (expected_hz > limit_hz) break;
     /* The window a partial may fall in: the estimate's uncertainty either
        side (the coarse error until a harmonic is found), and above it, until
-       three harmonics give a B, the stretch of the stiffest string
-       accepted. A mode outside the window is not a harmonic. */
+       enough harmonics are found to steer by B, the stretch of the
+       stiffest string accepted. A mode outside the window is not a
+       harmonic. A window wider than the harmonics' spacing is cut to it
+       from its low edge, so that it still holds n f0. */
     double relative = fit->found == 0 ? COARSE_RELATIVE_ERROR : ACCEPT_RELATIVE_ERROR;
     double low_hz = expected_hz * (1.0 - relative);
     double high_hz = expected_hz * (1.0 + relative);
-    if (sums.count < 3) high_hz *= sqrt(1.0 + ACCEPT_B_MAX * n * n);
+    if (sums.count < SEARCH_B_MIN_HARMONICS) high_hz *= sqrt(1.0 + ACCEPT_B_MAX * n * n);
     int low_bin = (int)floor(low_hz / bin_hz), high_bin = (int)ceil(high_hz / bin_hz);
-    int centre = (low_bin + high_bin) / 2, radius = (high_bin - low_bin + 1) / 2;
+    int radius = (high_bin - low_bin + 1) / 2;
     if (radius > spacing_radius) radius = spacing_radius > 1 ? spacing_radius : 1;
+    int centre = low_bin + radius;
     last_harmonic_bin = centre + radius;
     int k = find_peak(current, centre, radius, last_bin);
     if (k < 0 || bin_power(current, k) < floor_power) continue;

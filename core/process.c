@@ -115,16 +115,32 @@ static void decide_frame(plumb *self, frame_record *record) {
   record->peak_count = spectrum_strong_peaks(
       self->spectra[slot], previous, self->fft_size, self->hop, self->settings.sample_rate_hz,
       PEAK_SEARCH_LOW_HZ, PEAK_SEARCH_HIGH_HZ, noise_power, record->peaks, PLUMB_FRAME_PEAKS);
-  if (state == 0) return;
+  if (candidates->count == 0) return;
+  /* A frame the decoder calls unvoiced is still searched from its most
+     probable candidate: a stiff string's stretched partials make the
+     waveform too little periodic for YIN, yet its spectrum is a clear
+     partial series. Such a frame is voiced only on stronger spectral
+     evidence. */
+  bool decoded_voiced = state > 0;
   harmonic_fit fit;
   bool found = harmonics_refine(self->spectra[slot], previous, self->fft_size, self->hop,
                                 self->settings.sample_rate_hz,
-                                candidates->candidate[state - 1].frequency_hz, noise_power,
-                                &record->harmonics, &fit);
-  record->harmonic_ratio = fit.harmonic_ratio;
-  if (found && fit.harmonic_ratio >= MIN_HARMONIC_RATIO && in_range(self, fit.f0_hz)) {
+                                candidates->candidate[decoded_voiced ? state - 1 : 0].frequency_hz,
+                                noise_power, &record->harmonics, &fit);
+  /* Stronger evidence: most of the energy in the series, enough partials,
+     and the three lowest among them (a candidate an octave low finds only
+     every other partial). */
+  const float *partial_hz = record->harmonics.frequency_hz;
+  bool lowest_three = partial_hz[0] > 0.0f && partial_hz[1] > 0.0f && partial_hz[2] > 0.0f;
+  bool evidence = decoded_voiced ? fit.harmonic_ratio >= MIN_HARMONIC_RATIO
+                                 : fit.harmonic_ratio >= SPECTRAL_VOICING_RATIO &&
+                                       fit.found >= SPECTRAL_VOICING_PARTIALS && lowest_three;
+  if (found && evidence && in_range(self, fit.f0_hz)) {
     record->voiced = true;
     record->f0_hz = fit.f0_hz;
+    record->harmonic_ratio = fit.harmonic_ratio;
+  } else {
+    memset(&record->harmonics, 0, sizeof record->harmonics);
   }
 }
 
