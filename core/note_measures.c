@@ -14,6 +14,7 @@
 #define STEADY_BAND_CENTS 25.0     /* attack scoops and release glides lie outside */
 #define STEADY_LEVEL_RANGE_DB 20.0 /* common practice, no source */
 #define ATTACK_END_DB 3.0          /* common practice, no source */
+#define ATTACK_SKIP_MAX_S 0.15
 #define MIN_VOICED_FRACTION 0.4    /* below this an event has no definite pitch */
 #define MIN_HARMONIC_RATIO 0.5
 #define VIBRATO_MIN_HZ 3.0
@@ -84,9 +85,12 @@ static bool find_steady_part(const measure_context *context,
   /* Frames whose window reaches over the note's start or end by more than
      a quarter of its length see the neighbouring sound too. */
   double margin_s = 0.25 * context->frame_s;
+  /* ... and the onset's own transient: the first tenth of the note, at
+     most ATTACK_SKIP_MAX_S (common practice, no source). */
+  double attack_skip_s = fmin(ATTACK_SKIP_MAX_S, 0.1 * (end_s - start_s));
   int first = 0, last = count - 1;
-  while (first < last &&
-         (double)frames[first].centre_sample / context->sample_rate_hz < start_s + margin_s)
+  while (first < last && (double)frames[first].centre_sample / context->sample_rate_hz <
+                             start_s + fmax(margin_s, attack_skip_s))
     ++first;
   while (last > first &&
          (double)frames[last].centre_sample / context->sample_rate_hz > end_s - margin_s)
