@@ -51,7 +51,8 @@ struct plumb {
   note_tracker tracker;
   measure_context measure;
   double *scratch;
-  note_queue queue;
+  note_queue queue;          /* for the consumer thread (the log writer) */
+  note_queue here_queue;     /* for the audio thread itself (notify output) */
   timeline_marks timeline;
   uint32_t next_index;
   /* readings */

@@ -72,6 +72,7 @@ static plumb_status allocate(plumb *self) {
   if (status == PLUMB_OK) status = spectrum_init(&self->spectrum, self->fft_size, sr);
   if (status == PLUMB_OK) status = note_tracker_init(&self->tracker);
   if (status == PLUMB_OK) status = note_queue_init(&self->queue);
+  if (status == PLUMB_OK) status = note_queue_init(&self->here_queue);
   if (status != PLUMB_OK) return status;
   self->window = fftwf_alloc_real((size_t)self->fft_size);
   self->half_window = fftwf_alloc_real((size_t)self->fft_size / 2);
@@ -121,6 +122,7 @@ void plumb_free(plumb *self) {
   spectrum_destroy(&self->spectrum);
   note_tracker_destroy(&self->tracker);
   note_queue_destroy(&self->queue);
+  note_queue_destroy(&self->here_queue);
   for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) fftwf_free(self->spectra[i]);
   fftwf_free(self->window);
   fftwf_free(self->half_window);
@@ -144,7 +146,9 @@ void plumb_reset(plumb *self) {
   self->live.midi = -1;
   self->live.f0_hz = self->live.cents = NAN;
   memset(&self->counts, 0, sizeof self->counts);
-  /* Completed notes stay queued: a consumer may be reading them. */
+  /* Completed notes stay queued for the consumer thread, which may be
+     reading them; the audio thread's own queue is emptied. */
+  note_queue_clear(&self->here_queue);
 }
 
 plumb_status plumb_configure(plumb *self, const plumb_settings *settings) {
@@ -205,6 +209,10 @@ void plumb_mark_timeline(plumb *self, double position_s, double speed) {
 
 bool plumb_pop_note(plumb *self, plumb_note *note) {
   return self && note && note_queue_pop(&self->queue, note);
+}
+
+bool plumb_pop_note_here(plumb *self, plumb_note *note) {
+  return self && note && note_queue_pop(&self->here_queue, note);
 }
 
 void plumb_get_live(const plumb *self, plumb_live *live) {

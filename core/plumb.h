@@ -222,6 +222,12 @@ void plumb_mark_timeline(plumb *analyser, double position_s, double speed);
    there is none. May run on a thread other than plumb_process()'s. */
 bool plumb_pop_note(plumb *analyser, plumb_note *note);
 
+/* [RT, the thread that calls plumb_process()] Take the oldest completed
+   note from a second queue meant for the audio thread itself (a host's
+   notify output), independent of plumb_pop_note()'s. Returns false when
+   there is none. */
+bool plumb_pop_note_here(plumb *analyser, plumb_note *note);
+
 typedef struct {
   bool voiced;        /* a definite pitch is sounding */
   int midi;           /* nearest target, -1 when not voiced */

@@ -175,6 +175,13 @@ static void complete_note(void *context, const frame_record *frames, int count) 
   self->counts.last_note = note;
   self->counts.has_last = true;
   if (!note_queue_push(&self->queue, &note)) self->counts.dropped++;
+  /* The audio thread's own queue: an old note makes room for a new one
+     when nobody reads it (a host without a notify consumer). */
+  if (!note_queue_push(&self->here_queue, &note)) {
+    plumb_note oldest;
+    note_queue_pop(&self->here_queue, &oldest);
+    note_queue_push(&self->here_queue, &note);
+  }
 }
 
 void analyser_process_hop(plumb *self) {

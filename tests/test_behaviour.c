@@ -289,6 +289,29 @@ static void test_timeline_marks_place_notes(void **state) {
   free(x);
 }
 
+static void test_both_queues_carry_every_note(void **state) {
+  (void)state;
+  harness_take_spec spec = {48000.0, 40.0, 6.0, false, false, 5};
+  harness_take take;
+  assert_int_equal(harness_random_take(&spec, &take), 0);
+  plumb_settings settings;
+  plumb_settings_default(&settings, 48000.0);
+  plumb *analyser = plumb_new(&settings, NULL);
+  plumb_process(analyser, take.samples, take.n);
+  plumb_finish(analyser);
+  plumb_note from_consumer, from_here;
+  int count = 0;
+  while (plumb_pop_note(analyser, &from_consumer)) {
+    assert_true(plumb_pop_note_here(analyser, &from_here));
+    assert_memory_equal(&from_consumer, &from_here, sizeof from_here);
+    ++count;
+  }
+  assert_false(plumb_pop_note_here(analyser, &from_here));
+  assert_true(count >= 5);
+  plumb_free(analyser);
+  harness_take_free(&take);
+}
+
 static void test_full_queue_counts_dropped_notes(void **state) {
   (void)state;
   /* 300 short notes with nobody reading the queue */
@@ -329,6 +352,7 @@ int main(void) {
       cmocka_unit_test(test_flags_follow_the_temperament),
       cmocka_unit_test(test_unsteady_pitch_is_flagged),
       cmocka_unit_test(test_timeline_marks_place_notes),
+      cmocka_unit_test(test_both_queues_carry_every_note),
       cmocka_unit_test(test_full_queue_counts_dropped_notes),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
