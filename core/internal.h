@@ -217,6 +217,7 @@ typedef struct {
   double voiced_probability;
   double harmonic_ratio;
   bool legato_start;      /* first frame of a note split off by a pitch change */
+  double level_before_dbfs; /* first frame of a note: the level of the frame before */
   double level_dbfs;      /* windowed frame level */
   double onset_db;        /* onset detection function */
   float peak;             /* peak |sample| over the hop around the centre */
@@ -267,6 +268,7 @@ typedef struct {
   int change_run;          /* frames the smoothed pitch has left the note */
   double peak_level_dbfs;
   double idle_floor_dbfs;  /* a release must not restart a note */
+  double last_level_dbfs;  /* of the frame tracked last */
   double onset_history[16];
   int onset_history_n;
   frame_record pending;    /* one frame of look-ahead for onset peaks */

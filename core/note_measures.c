@@ -472,7 +472,9 @@ static double refine_start_s(const measure_context *context,
     if (frames[i].level_dbfs < frames[top].level_dbfs - ATTACK_DIP_DB) break;
     if (frames[i].level_dbfs > frames[top].level_dbfs) top = i;
   }
-  double quietest = frames[0].level_dbfs;
+  /* The floor under the note: the quietest of its rising frames and of the
+     frame before it (silence before a note from nothing). */
+  double quietest = fmin(frames[0].level_dbfs, frames[0].level_before_dbfs);
   for (int i = 1; i < top; ++i) quietest = fmin(quietest, frames[i].level_dbfs);
   if (frames[top].level_dbfs - quietest < EDGE_MIN_RISE_DB)
     return frame_time_s(context, &frames[0]);
@@ -480,7 +482,14 @@ static double refine_start_s(const measure_context *context,
                           quietest + ONSET_ABOVE_FLOOR_DB);
   int i = top;
   while (i > 0 && frames[i - 1].level_dbfs >= threshold) --i;
-  if (i == 0) return frame_time_s(context, &frames[0]);
+  if (i == 0) {
+    /* The note's first frame is already above the threshold: place a
+       sudden start where the window's shape puts one at that frame's level
+       (the frame before was below the floor). */
+    double below_top_db = frames[0].level_dbfs - frames[top].level_dbfs;
+    double lead0_s = below_top_db < 0.0 ? window_step_lead_s(below_top_db, context->frame_s) : 0.0;
+    return frame_time_s(context, &frames[0]) + lead0_s;
+  }
   double lead_s = window_step_lead_s(threshold - frames[top].level_dbfs, context->frame_s);
   double refined_s = crossing_time_s(context, &frames[i - 1], &frames[i], threshold) + lead_s;
   /* Over a sound that is still ringing (the floor set the threshold), the

@@ -59,6 +59,7 @@ void note_tracker_reset(note_tracker *tracker, double hop_s,
   tracker->reference_midi = NAN;
   tracker->previous_onset_db = INFINITY;
   tracker->idle_floor_dbfs = -INFINITY;
+  tracker->last_level_dbfs = -INFINITY;
   note_tracker_set_min_note(tracker, min_note_ms);
 }
 
@@ -76,7 +77,8 @@ static void start_note(note_tracker *tracker, const frame_record *frame) {
   tracker->quiet_run = 0;
   tracker->change_run = 0;
   tracker->peak_level_dbfs = frame->level_dbfs;
-  tracker->frames[tracker->count++] = *frame;
+  tracker->frames[tracker->count] = *frame;
+  tracker->frames[tracker->count++].level_before_dbfs = tracker->last_level_dbfs;
 }
 
 static void remember_preroll(note_tracker *tracker, const frame_record *frame) {
@@ -95,6 +97,7 @@ static void start_after_preroll(note_tracker *tracker, const frame_record *frame
     return;
   }
   start_note(tracker, &tracker->preroll[first]);
+  tracker->frames[0].level_before_dbfs = -INFINITY; /* the pre-roll follows a quiet frame */
   for (int i = 1; i < count; ++i)
     tracker->frames[tracker->count++] = tracker->preroll[(first + i) % PLUMB_PREROLL_FRAMES];
   tracker->frames[tracker->count++] = *frame;
@@ -235,8 +238,17 @@ static bool dipped(const note_tracker *tracker) {
   return before - lowest >= REARTICULATION_DIP_DB;
 }
 
+static void track_frame_state(note_tracker *tracker, const frame_record *frame,
+                              bool onset, note_sink sink, void *context);
+
 static void track_frame(note_tracker *tracker, const frame_record *frame,
                         bool onset, note_sink sink, void *context) {
+  track_frame_state(tracker, frame, onset, sink, context);
+  tracker->last_level_dbfs = frame->level_dbfs;
+}
+
+static void track_frame_state(note_tracker *tracker, const frame_record *frame,
+                              bool onset, note_sink sink, void *context) {
   bool quiet = frame->level_dbfs < GATE_DBFS;
   if (!tracker->active) {
     /* After a note has ended, its release is not a new note: only an onset
