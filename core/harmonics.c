@@ -19,6 +19,7 @@
 /* Relative error allowed for the coarse YIN estimate, and for a partial
    once the fit has a harmonic (30 cents; common practice, no source). */
 #define COARSE_RELATIVE_ERROR 0.01
+#define COARSE_LOW_RELATIVE_ERROR 0.05
 #define ACCEPT_RELATIVE_ERROR 0.0175
 /* The stiffest string that stays pitched (issue target: B up to 0.01). */
 #define ACCEPT_B_MAX 0.01
@@ -203,7 +204,10 @@ bool harmonics_refine(const fftwf_complex *current,
        harmonic. A window wider than the harmonics' spacing is cut to it
        from its low edge, so that it still holds n f0. */
     double relative = fit->found == 0 ? COARSE_RELATIVE_ERROR : ACCEPT_RELATIVE_ERROR;
-    double low_hz = expected_hz * (1.0 - relative);
+    /* YIN reads a stiff string's period short (its stretched partials pull
+       it), so until a harmonic is found the window reaches further down. */
+    double low_relative = fit->found == 0 ? COARSE_LOW_RELATIVE_ERROR : relative;
+    double low_hz = expected_hz * (1.0 - low_relative);
     double high_hz = expected_hz * (1.0 + relative);
     if (sums.count < SEARCH_B_MIN_HARMONICS) high_hz *= sqrt(1.0 + ACCEPT_B_MAX * n * n);
     int low_bin = (int)floor(low_hz / bin_hz), high_bin = (int)ceil(high_hz / bin_hz);
