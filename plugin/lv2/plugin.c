@@ -11,6 +11,7 @@
 #include "denormals.h"
 #include "log_writer.h"
 #include "messages.h"
+#include "note_events.h"
 #include "plumb.h"
 #include "ports.h"
 #include "transport.h"
@@ -60,6 +61,7 @@ typedef struct {
   log_request request;             /* the latest, for the writer */
   bool request_pending;            /* not yet taken by the writer's slot */
   bool ran;                        /* run() was called during this take */
+  uint32_t notes_not_sent;         /* note objects that did not fit notify */
   transport position;
 } Plumb;
 
@@ -191,6 +193,7 @@ static void activate(LV2_Handle instance) {
   plumb_reset(self->core);
   transport_reset(&self->position);
   self->ran = false;
+  self->notes_not_sent = 0;
   request_update(self);
   log_writer_begin_take(self->writer);
 }
@@ -306,6 +309,13 @@ static void open_notify(Plumb *self) {
   }
 }
 
+/* Every note completed in this block, at its last frame. */
+static void send_notes(Plumb *self, uint32_t n_samples) {
+  int64_t last_frame = n_samples > 0 ? (int64_t)n_samples - 1 : 0;
+  self->notes_not_sent += note_events_send(
+      self->core, &self->uris, &self->forge, self->notify_open, last_frame);
+}
+
 static void close_notify(Plumb *self) {
   if (self->notify_open) {
     lv2_atom_forge_pop(&self->forge, &self->notify_frame);
@@ -340,6 +350,7 @@ static void run(LV2_Handle instance, uint32_t n_samples) {
   open_notify(self);
   read_controls(self);
   analyse_with_events(self, n_samples);
+  send_notes(self, n_samples);
   close_notify(self);
   hand_over_to_writer(self);
   write_outputs(self);

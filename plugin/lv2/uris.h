@@ -14,6 +14,18 @@
 #define PLUMB_URI_LOG_FOLDER "urn:plumb:logFolder"
 #define PLUMB_URI_TAKE_LABEL "urn:plumb:takeLabel"
 #define PLUMB_URI_CUSTOM_OFFSETS "urn:plumb:customOffsets"
+#define PLUMB_URI_NOTE "urn:plumb:Note"
+#define PLUMB_URI_NOTE_PREFIX "urn:plumb:note#" /* then the field's name */
+
+/* The plumb_note fields a urn:plumb:Note object carries, by atom type;
+   each key is PLUMB_URI_NOTE_PREFIX and the field's name. */
+#define PLUMB_NOTE_INT_FIELDS(X) X(index) X(midi) X(partials) X(verdict)
+#define PLUMB_NOTE_DOUBLE_FIELDS(X)                                            \
+  X(start_s) X(end_s) X(timeline_s) X(target_hz) X(f0_hz) X(cents)            \
+  X(spread_cents) X(drift_cents_per_s) X(vibrato_hz) X(vibrato_cents)          \
+  X(confidence) X(inharmonicity_b) X(hnr_db) X(odd_even_db) X(centroid_hz)     \
+  X(attack_ms) X(decay_ms) X(sustain_db) X(release_ms) X(peak_dbfs)
+#define PLUMB_NOTE_KEY_FIELD(name) LV2_URID note_##name;
 
 typedef struct {
   LV2_URID atom_Float;
@@ -38,6 +50,9 @@ typedef struct {
   LV2_URID plumb_logFolder;
   LV2_URID plumb_takeLabel;
   LV2_URID plumb_customOffsets;
+  LV2_URID plumb_Note;
+  PLUMB_NOTE_INT_FIELDS(PLUMB_NOTE_KEY_FIELD)
+  PLUMB_NOTE_DOUBLE_FIELDS(PLUMB_NOTE_KEY_FIELD)
 } plumb_uris;
 
 static inline void plumb_uris_map(plumb_uris *uris, LV2_URID_Map *map) {
@@ -65,6 +80,12 @@ static inline void plumb_uris_map(plumb_uris *uris, LV2_URID_Map *map) {
   uris->plumb_logFolder = get(handle, PLUMB_URI_LOG_FOLDER);
   uris->plumb_takeLabel = get(handle, PLUMB_URI_TAKE_LABEL);
   uris->plumb_customOffsets = get(handle, PLUMB_URI_CUSTOM_OFFSETS);
+  uris->plumb_Note = get(handle, PLUMB_URI_NOTE);
+#define PLUMB_NOTE_KEY_MAP(name)                                               \
+  uris->note_##name = get(handle, PLUMB_URI_NOTE_PREFIX #name);
+  PLUMB_NOTE_INT_FIELDS(PLUMB_NOTE_KEY_MAP)
+  PLUMB_NOTE_DOUBLE_FIELDS(PLUMB_NOTE_KEY_MAP)
+#undef PLUMB_NOTE_KEY_MAP
 }
 
 #endif /* PLUMB_LV2_URIS_H */
