@@ -5,6 +5,8 @@
 */
 #include "scan.h"
 
+#include "log_locate.h"
+
 #include "bundle.h"
 #include "exit_status.h"
 #include "host.h"
@@ -172,9 +174,10 @@ static int summarise(const scan_run *scan, const scan_options *options,
   size_t count = 0;
   for (size_t i = 0; i < scan->plan.count; ++i) {
     const char *label = scan->plan.tracks[i].label;
-    int length = snprintf(paths[count], PATH_MAX, "%s/%s.notes.csv",
-                          scan->log_folder, label);
-    if (length < 0 || length >= PATH_MAX) {
+    /* The plugin names the log after the label's stem, and may add -2 ...
+       when another instance holds that name: find the one we wrote. */
+    log_locate(scan->log_folder, label, paths[count], PATH_MAX);
+    if (strlen(paths[count]) + 1 >= PATH_MAX) {
       console_error("%s: the log's path is too long", label);
       status = EXIT_STATUS_IO;
     } else if (scan->track_ok[i]) {

@@ -2,6 +2,7 @@
   plumb LV2: the log folder, file stems and mkdir -p (see log_path.h).
 */
 #include "log_path.h"
+#include "plumb_csv.h"
 
 #include <errno.h>
 #include <pwd.h>
@@ -50,25 +51,8 @@ int log_path_default_folder(char *folder, size_t size) {
   return copy_joined(folder, size, home, "/.local/state/plumb");
 }
 
-static bool is_kept(unsigned char c) {
-  return (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') ||
-         (c >= '0' && c <= '9') || c == '.' || c == '_' || c == '-';
-}
-
 size_t log_path_sanitise_label(const char *label, char *stem) {
-  size_t length = 0;
-  for (const unsigned char *c = (const unsigned char *)label;
-       *c && length < LOG_PATH_STEM_MAX; ++c) {
-    if ((*c & 0xC0u) == 0x80u) {
-      continue; /* a UTF-8 continuation byte: its lead byte gave the '_' */
-    }
-    stem[length++] = is_kept(*c) ? (char)*c : '_';
-  }
-  stem[length] = '\0';
-  if (stem[0] == '.') {
-    stem[0] = '_';
-  }
-  return length;
+  return plumb_log_stem(label, stem); /* the rule the command relies on too */
 }
 
 void log_path_automatic_stem(time_t now, char *stem) {

@@ -10,7 +10,7 @@
 #include <stddef.h>
 #include <time.h>
 
-#define LOG_PATH_STEM_MAX 100 /* characters kept from a take label */
+#define LOG_PATH_STEM_MAX 100 /* characters kept from a take label (PLUMB_LOG_STEM_MAX) */
 
 /* The folder used when the plugin has no logFolder parameter:
    $PLUMB_LOG_DIR, else $XDG_STATE_HOME/plumb (an absolute

@@ -158,6 +158,9 @@ int run_json_print(FILE *stream, const run_record *record) {
   put_text_field(stream, "take", record->stem);
   put_text_field(stream, "take_label", record->take_label);
   put_text_field(stream, "notes_file", notes_file);
+  /* the writing process, so that a host can tell its own log from another
+     instance's of the same label (which get -2, -3 ... stems) */
+  fprintf(stream, "  \"process_id\": %ld,\n", (long)getpid());
   put_key(stream, "sample_rate_hz");
   put_number(stream, record->sample_rate_hz, 0);
   fputs(",\n", stream);
