@@ -265,7 +265,7 @@ static void test_partials_above_limit_are_dropped(void **state) {
 
 /* Source: the reference xoshiro256** (Blackman & Vigna 2018) from the
    state {1, 2, 3, 4}: first outputs from memory, confirmed by hand for
-   the first two and by a separate Python transcription. */
+   the first two and by a separate Python rewrite. */
 static void test_xoshiro_reference_outputs(void **state) {
   (void)state;
   sig_rng rng = {{1, 2, 3, 4}, false, 0.0};

@@ -3,6 +3,7 @@
   messages.h). All [RT].
 */
 #include "messages.h"
+#include "forge_mark.h"
 
 #include <lv2/atom/util.h>
 
@@ -169,31 +170,6 @@ unsigned messages_apply_set(const plumb_uris *uris, const LV2_Atom_Object *set,
 }
 
 /* ------------------------------------------------------------ patch:Get */
-
-/* Where the notify sequence stood before an answer, to undo a half-written
-   one: the forge stops at the first write that does not fit, which would
-   otherwise leave a truncated object in the sequence. */
-typedef struct {
-  uint32_t offset;
-  uint32_t sequence_size;
-  LV2_Atom_Forge_Frame *stack;
-} forge_mark;
-
-static forge_mark mark_forge(LV2_Atom_Forge *forge) {
-  forge_mark mark = {forge->offset, 0, forge->stack};
-  if (forge->stack) {
-    mark.sequence_size = lv2_atom_forge_deref(forge, forge->stack->ref)->size;
-  }
-  return mark;
-}
-
-static void undo_to_mark(LV2_Atom_Forge *forge, const forge_mark *mark) {
-  forge->offset = mark->offset;
-  forge->stack = mark->stack;
-  if (forge->stack) {
-    lv2_atom_forge_deref(forge, forge->stack->ref)->size = mark->sequence_size;
-  }
-}
 
 /* Writes the value of one of our properties; 0 when it does not fit. */
 static LV2_Atom_Forge_Ref forge_value(const plumb_uris *uris, LV2_URID key,

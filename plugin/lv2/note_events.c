@@ -2,33 +2,10 @@
   plumb LV2: completed notes as urn:plumb:Note objects on notify.
 */
 #include "note_events.h"
+#include "forge_mark.h"
 
 #include <math.h>
 #include <stddef.h>
-
-/* Where the forge stood, so an object that does not fit can be undone
-   without leaving half of it in the sequence. */
-typedef struct {
-  uint32_t offset;
-  uint32_t sequence_size;
-  LV2_Atom_Forge_Frame *stack;
-} forge_mark;
-
-static forge_mark mark_forge(LV2_Atom_Forge *forge) {
-  forge_mark mark = {forge->offset, 0, forge->stack};
-  if (forge->stack) {
-    mark.sequence_size = lv2_atom_forge_deref(forge, forge->stack->ref)->size;
-  }
-  return mark;
-}
-
-static void undo_to_mark(LV2_Atom_Forge *forge, const forge_mark *mark) {
-  forge->offset = mark->offset;
-  forge->stack = mark->stack;
-  if (forge->stack) {
-    lv2_atom_forge_deref(forge, forge->stack->ref)->size = mark->sequence_size;
-  }
-}
 
 /* A property with an atom:Int value; `applies` false leaves it out. */
 static bool put_int(LV2_Atom_Forge *forge, LV2_URID key, int32_t value,
