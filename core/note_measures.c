@@ -16,7 +16,7 @@
 #define ATTACK_END_DB 3.0          /* common practice, no source */
 #define ATTACK_SKIP_MAX_S 0.15
 #define MIN_VOICED_FRACTION 0.4    /* below this an event has no definite pitch */
-#define MIN_HARMONIC_RATIO 0.5
+#define MIN_NOTE_HARMONIC_RATIO 0.5
 #define VIBRATO_MIN_HZ 3.0
 #define VIBRATO_MAX_HZ 12.0
 #define VIBRATO_MIN_CORRELATION 0.5
@@ -647,7 +647,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
   int steady_voiced;
   note->spread_cents = spread_of(frames, &part, fit.model_b, centre_cents, &sum_probability,
                                  &sum_ratio, &steady_voiced);
-  if (sum_ratio / steady_voiced < MIN_HARMONIC_RATIO) {
+  if (sum_ratio / steady_voiced < MIN_NOTE_HARMONIC_RATIO) {
     leave_unpitched(note);
     return;
   }
