@@ -51,6 +51,22 @@ int log_path_default_folder(char *folder, size_t size) {
   return copy_joined(folder, size, home, "/.local/state/plumb");
 }
 
+int log_path_session_folder(const LV2_State_Make_Path *make_path,
+                            const LV2_State_Free_Path *free_path,
+                            char *folder, size_t size) {
+  char *made = make_path->path(make_path->handle, "plumb-logs");
+  if (!made) {
+    return -1;
+  }
+  int result = made[0] ? copy_joined(folder, size, made, "") : -1;
+  if (free_path) {
+    free_path->free_path(free_path->handle, made);
+  } else {
+    free(made);
+  }
+  return result;
+}
+
 size_t log_path_sanitise_label(const char *label, char *stem) {
   return plumb_log_stem(label, stem); /* the rule the command relies on too */
 }

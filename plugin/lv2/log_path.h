@@ -7,6 +7,8 @@
 #ifndef PLUMB_LV2_LOG_PATH_H
 #define PLUMB_LV2_LOG_PATH_H
 
+#include <lv2/state/state.h>
+
 #include <stddef.h>
 #include <time.h>
 
@@ -18,6 +20,15 @@
    else $HOME/.local/state/plumb, else the same under the password
    database's home. Returns 0, or -1 when none fits in size. */
 int log_path_default_folder(char *folder, size_t size);
+
+/* The folder the host's state:makePath gives for "plumb-logs" (inside
+   the session), copied into folder; the host's string is freed with
+   free_path, or free() when free_path is NULL. Call it from the writer
+   thread only, never in instantiate() or run(). Returns 0, or -1 when
+   the host gave no path or it does not fit in size. */
+int log_path_session_folder(const LV2_State_Make_Path *make_path,
+                            const LV2_State_Free_Path *free_path,
+                            char *folder, size_t size);
 
 /* The file stem for a take label: bytes outside [A-Za-z0-9._-] become
    '_' (one '_' for each UTF-8 character), a leading '.' becomes '_' so

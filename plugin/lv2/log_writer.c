@@ -26,6 +26,8 @@ struct log_writer {
   LV2_Log_Logger logger;
   double sample_rate_hz;
   char default_folder[PLUMB_LV2_FOLDER_MAX]; /* "" when none was found */
+  const LV2_State_Make_Path *make_path;      /* NULL when the host has none */
+  const LV2_State_Free_Path *free_path;
   pthread_t thread;
 
   /* From the audio thread: one request slot and plain atomics. */
@@ -56,6 +58,8 @@ struct log_writer {
   log_file file;       /* file.csv != NULL while a take is open */
   run_record record;
   char record_label[PLUMB_LV2_LABEL_MAX];
+  char session_folder[PLUMB_LV2_FOLDER_MAX]; /* from make_path; "" if none */
+  bool session_asked;                        /* make_path has been called */
   bool target_failed; /* opening failed; retried for a new target/take */
   unsigned take_seen;
   unsigned finish_handled;
@@ -124,10 +128,27 @@ static void write_record(log_writer *writer) {
   }
 }
 
-static const char *folder_of(const log_writer *writer,
+/* The host's folder inside the session, asked for once, on this thread. */
+static const char *session_folder(log_writer *writer) {
+  if (writer->make_path && !writer->session_asked) {
+    writer->session_asked = true;
+    if (log_path_session_folder(writer->make_path, writer->free_path,
+                                writer->session_folder,
+                                sizeof writer->session_folder) != 0) {
+      writer->session_folder[0] = '\0';
+    }
+  }
+  return writer->session_folder;
+}
+
+/* The logFolder parameter, else makePath's, else the environment's. */
+static const char *folder_of(log_writer *writer,
                              const plumb_lv2_parameters *parameters) {
-  return parameters->log_folder[0] ? parameters->log_folder
-                                   : writer->default_folder;
+  if (parameters->log_folder[0]) {
+    return parameters->log_folder;
+  }
+  const char *session = session_folder(writer);
+  return session[0] ? session : writer->default_folder;
 }
 
 /* Opens the take's files once logging is on and run() has delivered the
@@ -199,7 +220,7 @@ static bool same_folder(const char *a, const char *b) {
 /* Whether two requests name the same files. Comparing what the names
    become, not the raw strings, matters: closing a file and opening it
    again under an equivalent name would truncate the rows just written. */
-static bool same_target(const log_writer *writer, const plumb_lv2_parameters *a,
+static bool same_target(log_writer *writer, const plumb_lv2_parameters *a,
                         const plumb_lv2_parameters *b) {
   char stem_a[LOG_PATH_STEM_MAX + 1];
   char stem_b[LOG_PATH_STEM_MAX + 1];
@@ -358,6 +379,8 @@ log_writer *log_writer_new(const log_writer_config *config, int *error) {
   writer->core = config->core;
   writer->logger = config->logger;
   writer->sample_rate_hz = config->sample_rate_hz;
+  writer->make_path = config->make_path;
+  writer->free_path = config->free_path;
   if (log_path_default_folder(writer->default_folder,
                               sizeof writer->default_folder) != 0) {
     writer->default_folder[0] = '\0';

@@ -26,6 +26,7 @@
 #include "take_settings.h"
 
 #include <lv2/log/logger.h>
+#include <lv2/state/state.h>
 
 #include <stdbool.h>
 
@@ -39,6 +40,11 @@ typedef struct {
   plumb *core;           /* the writer pops its notes; not owned */
   LV2_Log_Logger logger; /* copied; with no host log it prints to stderr */
   double sample_rate_hz;
+  /* The host's state:makePath and state:freePath, or NULL. Only the
+     writer thread calls make_path, once, when a take needs a folder and
+     no logFolder is set (never in instantiate: a host aborts). */
+  const LV2_State_Make_Path *make_path;
+  const LV2_State_Free_Path *free_path;
 } log_writer_config;
 
 typedef struct log_writer log_writer;

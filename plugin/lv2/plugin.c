@@ -14,6 +14,7 @@
 #include "note_events.h"
 #include "plumb.h"
 #include "ports.h"
+#include "state.h"
 #include "transport.h"
 #include "uris.h"
 
@@ -23,6 +24,7 @@
 #include <lv2/core/lv2_util.h>
 #include <lv2/log/log.h>
 #include <lv2/log/logger.h>
+#include <lv2/state/state.h>
 #include <lv2/urid/urid.h>
 
 #include <stdbool.h>
@@ -58,6 +60,7 @@ typedef struct {
   take_settings settings; /* as last given to the core */
   bool logging;
   plumb_lv2_parameters parameters; /* log folder, take label, offsets */
+  state_snapshot snapshot;         /* the parameters, for state save() */
   log_request request;             /* the latest, for the writer */
   bool request_pending;            /* not yet taken by the writer's slot */
   bool ran;                        /* run() was called during this take */
@@ -96,8 +99,12 @@ static bool start_core(Plumb *self) {
   return self->core != NULL;
 }
 
-static bool start_writer(Plumb *self) {
-  log_writer_config config = {self->core, self->logger, self->sample_rate_hz};
+/* make_path is kept for the writer thread, which alone may call it. */
+static bool start_writer(Plumb *self, const LV2_Feature *const *features) {
+  log_writer_config config = {self->core, self->logger, self->sample_rate_hz,
+                              NULL, NULL};
+  config.make_path = lv2_features_data(features, LV2_STATE__makePath);
+  config.free_path = lv2_features_data(features, LV2_STATE__freePath);
   int error = 0;
   self->writer = log_writer_new(&config, &error);
   if (!self->writer) {
@@ -119,8 +126,9 @@ static LV2_Handle instantiate(const LV2_Descriptor *descriptor,
   const LV2_Feature *usable[MAX_FEATURES];
   LV2_URID_Map *map = NULL;
   LV2_Log_Log *log = NULL;
+  features = usable_features(features, usable);
   const char *missing =
-      lv2_features_query(usable_features(features, usable), LV2_LOG__log, &log,
+      lv2_features_query(features, LV2_LOG__log, &log,
                          false, LV2_URID__map, &map, true, NULL);
   LV2_Log_Logger logger;
   memset(&logger, 0, sizeof logger);
@@ -143,9 +151,10 @@ static LV2_Handle instantiate(const LV2_Descriptor *descriptor,
   plumb_uris_map(&self->uris, map);
   lv2_atom_forge_init(&self->forge, map);
   messages_parameters_init(&self->parameters);
+  state_snapshot_publish(&self->snapshot, &self->parameters);
   controls_default(&self->settings, &self->logging);
   transport_reset(&self->position);
-  if (!start_core(self) || !start_writer(self)) {
+  if (!start_core(self) || !start_writer(self, features)) {
     cleanup(self);
     return NULL;
   }
@@ -242,11 +251,8 @@ static void read_controls(Plumb *self) {
   }
 }
 
-static void apply_set(Plumb *self, const LV2_Atom_Object *set) {
-  unsigned complaints = 0;
-  unsigned changed =
-      messages_apply_set(&self->uris, set, &self->parameters, &complaints);
-  log_writer_complain(self->writer, complaints);
+/* [RT] After the parameters changed (patch:Set or state restore). */
+static void parameters_changed(Plumb *self, unsigned changed) {
   if (changed & MESSAGE_CHANGED_OFFSETS) {
     take_settings wanted = self->settings;
     memcpy(wanted.tuning.custom_offsets_cents,
@@ -256,7 +262,16 @@ static void apply_set(Plumb *self, const LV2_Atom_Object *set) {
   }
   if (changed) {
     request_update(self);
+    state_snapshot_publish(&self->snapshot, &self->parameters);
   }
+}
+
+static void apply_set(Plumb *self, const LV2_Atom_Object *set) {
+  unsigned complaints = 0;
+  unsigned changed =
+      messages_apply_set(&self->uris, set, &self->parameters, &complaints);
+  log_writer_complain(self->writer, complaints);
+  parameters_changed(self, changed);
 }
 
 static void handle_event(Plumb *self, const LV2_Atom *body, uint32_t frame) {
@@ -391,10 +406,41 @@ static void cleanup(LV2_Handle instance) {
 
 /* -------------------------------------------------------- extension_data */
 
-/* [discovery] No extensions yet (state save and restore come later). */
+/* [state save: may run with run()] From the snapshot run() publishes;
+   never waits for the writer thread. */
+static LV2_State_Status save(LV2_Handle instance,
+                             LV2_State_Store_Function store,
+                             LV2_State_Handle handle, uint32_t flags,
+                             const LV2_Feature *const *features) {
+  (void)flags;
+  Plumb *self = instance;
+  plumb_lv2_parameters parameters;
+  state_snapshot_read(&self->snapshot, &parameters);
+  return state_save(&self->uris, &parameters, store, handle, features);
+}
+
+/* [instantiation] As a patch:Set would: the next run() (or activate)
+   hands the restored folder and label to the writer. */
+static LV2_State_Status restore(LV2_Handle instance,
+                                LV2_State_Retrieve_Function retrieve,
+                                LV2_State_Handle handle, uint32_t flags,
+                                const LV2_Feature *const *features) {
+  (void)flags;
+  Plumb *self = instance;
+  unsigned complaints = 0;
+  state_restorer restorer = {&self->uris, &self->forge, features, &complaints};
+  unsigned changed =
+      state_restore(&restorer, retrieve, handle, &self->parameters);
+  log_writer_complain(self->writer, complaints);
+  parameters_changed(self, changed);
+  return LV2_STATE_SUCCESS;
+}
+
+static const LV2_State_Interface state_interface = {save, restore};
+
+/* [discovery] */
 static const void *extension_data(const char *uri) {
-  (void)uri;
-  return NULL;
+  return strcmp(uri, LV2_STATE__interface) == 0 ? &state_interface : NULL;
 }
 
 /* ------------------------------------------------------------ descriptor */
