@@ -17,7 +17,7 @@ PKGS        := lv2 lilv-0 fftw3f sndfile cmocka
 BUILD_DEBS  := build-essential pkg-config lv2-dev libfftw3-dev liblilv-dev \
                libsndfile1-dev libcmocka-dev
 TEST_DEBS   := lilv-utils lv2file sordi serdi fluidsynth fluid-soundfont-gm \
-               aubio-tools python3-numpy python3-scipy locales
+               aubio-tools python3-numpy python3-scipy locales jalv jackd2
 
 WARNINGS := -Wall -Wextra -Werror -Wshadow -Wstrict-prototypes \
             -Wmissing-prototypes -Wpointer-arith -Wcast-qual -Wvla
