@@ -36,7 +36,7 @@ LV2_SRC   := $(wildcard plugin/lv2/*.c)
 LV2_OBJ   := $(LV2_SRC:%.c=$(BUILD)/obj/%.o)
 CLI_SRC   := $(wildcard plugin/cli/*.c)
 CLI_OBJ   := $(CLI_SRC:%.c=$(BUILD)/obj/%.o)
-SIG_SRC   := tests/signal.c tests/harness.c tests/sampled/render.c
+SIG_SRC   := tests/signal.c tests/harness.c tests/sampled/render.c tests/urid_table.c
 SIG_OBJ   := $(SIG_SRC:%.c=$(BUILD)/obj/%.o)
 TEST_SRC  := $(wildcard tests/test_*.c)
 TEST_BIN  := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)

@@ -11,6 +11,7 @@
   core's value does not apply. A notify buffer too small for an object
   must get none of it, and the sequence must stay within its buffer.
 */
+#include "urid_table.h"
 #include "signal.h"
 
 #include "../plugin/lv2/ports.h"
@@ -57,40 +58,9 @@
 
 /* ================================================== URIDs */
 
-#define URI_TABLE_SIZE 128
-#define URI_MAX_BYTES 160
-
-/* A URID is its row plus one; locked, since the plugin's log writer
-   thread lives while instantiate() maps. */
-static char uri_table[URI_TABLE_SIZE][URI_MAX_BYTES];
-static uint32_t uri_count;
-static pthread_mutex_t uri_lock = PTHREAD_MUTEX_INITIALIZER;
-
-static LV2_URID map_uri(LV2_URID_Map_Handle handle, const char *uri) {
-  (void)handle;
-  size_t length = strlen(uri);
-  LV2_URID urid = 0;
-  pthread_mutex_lock(&uri_lock);
-  for (uint32_t row = 0; row < uri_count && !urid; ++row) {
-    if (strcmp(uri_table[row], uri) == 0) {
-      urid = row + 1;
-    }
-  }
-  if (!urid && uri_count < URI_TABLE_SIZE && length < URI_MAX_BYTES) {
-    memcpy(uri_table[uri_count], uri, length + 1);
-    urid = ++uri_count;
-  }
-  pthread_mutex_unlock(&uri_lock);
-  return urid;
-}
-
-static const char *unmap_uri(LV2_URID_Unmap_Handle handle, LV2_URID urid) {
-  (void)handle;
-  pthread_mutex_lock(&uri_lock);
-  const char *uri = urid >= 1 && urid <= uri_count ? uri_table[urid - 1] : NULL;
-  pthread_mutex_unlock(&uri_lock);
-  return uri;
-}
+/* The shared table: tests/urid_table.c. */
+#define map_uri urid_table_map
+#define unmap_uri urid_table_unmap
 
 static LV2_URID map_plain(const char *uri) { return map_uri(NULL, uri); }
 
@@ -655,7 +625,7 @@ static void map_uris(void) {
   uris.bufsz_max = map_plain(LV2_BUF_SIZE__maxBlockLength);
   uris.bufsz_nominal = map_plain(LV2_BUF_SIZE__nominalBlockLength);
   for (size_t i = 0; i < FIELD_COUNT; ++i) {
-    char uri[URI_MAX_BYTES];
+    char uri[160];
     snprintf(uri, sizeof uri, "%s%s", NOTE_KEY_PREFIX, fields[i].name);
     fields[i].key = map_plain(uri);
   }

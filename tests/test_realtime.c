@@ -36,6 +36,7 @@
 */
 #define _GNU_SOURCE /* RTLD_NEXT, RTLD_DEFAULT, O_TMPFILE, usleep */
 
+#include "urid_table.h"
 #include "signal.h"
 
 #include "../plugin/lv2/ports.h"
@@ -381,8 +382,6 @@ FORWARD(int, clock_nanosleep,
 #define SAMPLE_RATE_HZ 48000.0
 #define MAX_BLOCK_FRAMES 4096
 #define ATOM_BUFFER_BYTES 16384 /* control in and notify out */
-#define URI_TABLE_SIZE 128
-#define URI_MAX_BYTES 160
 
 /* The parameters, as docs/ports.md names them. */
 #define LOG_FOLDER_URI "urn:plumb:logFolder"
@@ -390,39 +389,16 @@ FORWARD(int, clock_nanosleep,
 #define CUSTOM_OFFSETS_URI "urn:plumb:customOffsets"
 #define PLUGIN_URI "urn:plumb:intonation"
 
-/* A URID is its row in this table plus one. The plugin maps only in
-   instantiate() on this thread, but its writer thread lives meanwhile,
-   so the table is locked. */
-static char uri_table[URI_TABLE_SIZE][URI_MAX_BYTES];
-static uint32_t uri_count;
-static pthread_mutex_t uri_lock = PTHREAD_MUTEX_INITIALIZER;
-
+/* The URIDs come from the shared table (tests/urid_table.c), every call
+   counted: the plugin maps only in instantiate(). */
 static LV2_URID map_uri(LV2_URID_Map_Handle handle, const char *uri) {
-  (void)handle;
   note_call(CALL_urid_map);
-  size_t length = strlen(uri);
-  LV2_URID urid = 0;
-  pthread_mutex_lock(&uri_lock);
-  for (uint32_t row = 0; row < uri_count && !urid; ++row) {
-    if (strcmp(uri_table[row], uri) == 0) {
-      urid = row + 1;
-    }
-  }
-  if (!urid && uri_count < URI_TABLE_SIZE && length < URI_MAX_BYTES) {
-    memcpy(uri_table[uri_count], uri, length + 1);
-    urid = ++uri_count;
-  }
-  pthread_mutex_unlock(&uri_lock);
-  return urid;
+  return urid_table_map(handle, uri);
 }
 
 static const char *unmap_uri(LV2_URID_Unmap_Handle handle, LV2_URID urid) {
-  (void)handle;
   note_call(CALL_urid_unmap);
-  pthread_mutex_lock(&uri_lock);
-  const char *uri = urid >= 1 && urid <= uri_count ? uri_table[urid - 1] : NULL;
-  pthread_mutex_unlock(&uri_lock);
-  return uri;
+  return urid_table_unmap(handle, urid);
 }
 
 /* log:log to stderr. From run() it would count as vfprintf. */
