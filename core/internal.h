@@ -239,6 +239,34 @@ typedef struct {
   bool previous_unpitched; /* a legato continuation of such a sound is too */
 } measure_context;
 
+/* ------------------------------------------------------------ partial_fit.c */
+
+/* A note's steady part: its frame range, and the band around its median
+   pitch (reference_hz) outside which a frame is a slip, not the pitch. */
+typedef struct {
+  int first, last; /* inclusive frame range */
+  double reference_hz;
+  double band_cents;
+} steady_part;
+
+/* Voiced, and within the band. */
+bool steady_frame(const frame_record *f, const steady_part *part);
+
+/* The stiff-string model f_n = n f0 sqrt(1 + B n^2) of a note's partials. */
+typedef struct {
+  double b;                  /* fitted B; NaN with fewer than three partials */
+  double b_error;            /* its standard error */
+  bool stiff;                /* B stands clear of zero: pitch is read under it */
+  double noise_scale;        /* a partial's relative variance is this / (a^2 n^2) */
+  double independent_frames; /* of the steady part */
+  int partials;              /* found in at least half the steady frames */
+} partial_model;
+
+partial_model partial_model_fit(const measure_context *context, const frame_record *frames,
+                                const steady_part *part);
+/* A frame's fundamental under the model. */
+double partial_model_f0_hz(const partial_model *model, const frame_record *frame);
+
 /* Onsets are placed where the level crosses this far below the attack's
    peak. Common practice, no source. */
 #define PLUMB_ONSET_THRESHOLD_DB (-20.0)

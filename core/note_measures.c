@@ -27,24 +27,9 @@ static double frame_cents(const frame_record *frame, double reference_hz) {
   return 1200.0 * log2(frame->f0_hz / reference_hz);
 }
 
-/* A frame's fundamental under the note's stiff-string model: every partial
-   found gives f_n / (n sqrt(1 + B n^2)), weighted by a_n^2 n^2 as in the
-   frame fit. Unlike a harmonic fit corrected afterwards, it does not move
-   when a frame lacks one partial or another. */
-static double model_f0_hz(const frame_record *frame, double b) {
-  double weighted = 0.0, total = 0.0;
-  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
-    double a = frame->harmonics.amplitude[k];
-    if (!(a > 0.0)) continue;
-    double n = k + 1, w = a * a * n * n;
-    weighted += w * frame->harmonics.frequency_hz[k] / (n * sqrt(1.0 + b * n * n));
-    total += w;
-  }
-  return total > 0.0 ? weighted / total : frame->f0_hz;
-}
-
-static double model_cents(const frame_record *frame, double b, double reference_hz) {
-  return 1200.0 * log2(model_f0_hz(frame, b) / reference_hz);
+static double model_cents(const partial_model *model, const frame_record *frame,
+                          double reference_hz) {
+  return 1200.0 * log2(partial_model_f0_hz(model, frame) / reference_hz);
 }
 
 static void leave_unpitched(plumb_note *note) {
@@ -72,12 +57,6 @@ static void clear_note(plumb_note *note) {
 
 /* The steady part: trim the window overlap at both ends, then attack and
    release frames whose pitch lies outside a band around the note's median. */
-typedef struct {
-  int first, last;      /* inclusive frame range */
-  double reference_hz;  /* cents are measured from here */
-  double band_cents;    /* frames further from it are slips, not pitch */
-} steady_part;
-
 static bool find_steady_part(const measure_context *context,
                              const frame_record *frames, int count,
                              double start_s, double end_s, double *scratch,
@@ -144,22 +123,17 @@ static bool find_steady_part(const measure_context *context,
   return last - first >= 2;
 }
 
-/* Whether a frame of the steady part carries the note's pitch: voiced,
-   and not a slip (an octave or a stray partial) out of the band. */
-static bool steady_frame(const frame_record *f, const steady_part *part) {
-  return f->voiced && fabs(frame_cents(f, part->reference_hz)) <= part->band_cents;
-}
-
 /* Cents of every frame of the steady part on a uniform grid; frames
    without the note's pitch are bridged linearly. Returns the count. */
-static int uniform_cents(const frame_record *frames, const steady_part *part, double b,
+static int uniform_cents(const frame_record *frames, const steady_part *part,
+                         const partial_model *model,
                          double *cents) {
   int n = part->last - part->first + 1;
   int previous = -1;
   for (int i = 0; i < n; ++i) {
     const frame_record *f = &frames[part->first + i];
     if (!steady_frame(f, part)) continue;
-    cents[i] = model_cents(f, b, part->reference_hz);
+    cents[i] = model_cents(model, f, part->reference_hz);
     for (int j = previous + 1; j < i; ++j)
       cents[j] = previous < 0 ? cents[i]
                               : cents[previous] + (cents[i] - cents[previous]) *
@@ -314,76 +288,6 @@ static double robust_mean(const double *values, int n, double *scratch) {
   return weights > 0.0 ? sum / weights : median;
 }
 
-/*
-  The inharmonicity B of the stiff-string model f_n = n f0 sqrt(1 + B n^2)
-  (Fletcher 1964). Each frame's pitch f_t is a fit of f_n = n f_t, so
-  ratio_n = f_n / (n f_t) is free of vibrato; its square is linear in n^2:
-  ratio_n^2 = c^2 + c^2 B n^2, and weighted least squares on n^2 gives B =
-  slope / intercept (in the manner of the partial-frequency deviation
-  estimators, Rauhala, Lehtonen & Valimaki 2007). The note's pitch is then
-  measured under the model (model_f0_hz) where B stands three standard
-  errors clear of zero, under the harmonic model (B = 0) otherwise.
-*/
-typedef struct {
-  double b;       /* NaN when fewer than three partials */
-  double model_b; /* b where it is significant, else 0 (the harmonic model) */
-  int partials;   /* harmonics found in at least half the steady frames */
-} partial_fit;
-
-static partial_fit fit_partials(const frame_record *frames,
-                                const steady_part *part) {
-  double weight[PLUMB_FRAME_HARMONICS] = {0};
-  double ratio[PLUMB_FRAME_HARMONICS] = {0};
-  int found[PLUMB_FRAME_HARMONICS] = {0};
-  int steady_frames = 0;
-  for (int i = part->first; i <= part->last; ++i) {
-    const frame_record *f = &frames[i];
-    if (!steady_frame(f, part)) continue;
-    steady_frames++;
-    for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
-      double a = f->harmonics.amplitude[k];
-      if (!(a > 0.0)) continue;
-      found[k]++;
-      weight[k] += a * a;
-      ratio[k] += a * a * f->harmonics.frequency_hz[k] / ((k + 1) * f->f0_hz);
-    }
-  }
-  partial_fit fit = {NAN, 0.0, 0};
-  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k)
-    fit.partials += steady_frames > 0 && 2 * found[k] >= steady_frames;
-  double sw = 0.0, sx = 0.0, sy = 0.0, sxx = 0.0, sxy = 0.0;
-  int used = 0;
-  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
-    if (!(weight[k] > 0.0)) continue;
-    double n = k + 1, y = ratio[k] / weight[k];
-    double w = weight[k] * n * n, x = n * n;
-    y *= y;
-    sw += w;
-    sx += w * x;
-    sy += w * y;
-    sxx += w * x * x;
-    sxy += w * x * y;
-    ++used;
-  }
-  if (used == 0) return fit;
-  double determinant = sw * sxx - sx * sx;
-  if (used < 3 || !(determinant > 0.0)) return fit;
-  double slope = (sw * sxy - sx * sy) / determinant;
-  double intercept = (sy - slope * sx) / sw;
-  /* Residual variance of the weighted fit gives the slope's standard error. */
-  double residual = 0.0;
-  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
-    if (!(weight[k] > 0.0)) continue;
-    double n = k + 1, y = ratio[k] / weight[k];
-    double e = y * y - intercept - slope * n * n;
-    residual += weight[k] * n * n * e * e;
-  }
-  double slope_se = sqrt(residual / (used - 2) * sw / determinant);
-  fit.b = slope > 0.0 && intercept > 0.0 ? slope / intercept : 0.0;
-  if (slope > 0.0 && intercept > 0.0 && slope > 3.0 * slope_se) fit.model_b = fit.b;
-  return fit;
-}
-
 static plumb_verdict judge(const measure_context *context, const plumb_note *note,
                            bool vibrato) {
   if (note->cents > context->tolerance_cents) return PLUMB_VERDICT_SHARP;
@@ -393,7 +297,8 @@ static plumb_verdict judge(const measure_context *context, const plumb_note *not
   return PLUMB_VERDICT_IN_TUNE;
 }
 
-static double spread_of(const frame_record *frames, const steady_part *part, double b,
+static double spread_of(const frame_record *frames, const steady_part *part,
+                        const partial_model *model,
                         double centre_cents, double *sum_probability,
                         double *sum_ratio, int *voiced) {
   double sum = 0.0;
@@ -401,7 +306,7 @@ static double spread_of(const frame_record *frames, const steady_part *part, dou
   *voiced = 0;
   for (int i = part->first; i <= part->last; ++i) {
     if (!steady_frame(&frames[i], part)) continue;
-    double d = model_cents(&frames[i], b, part->reference_hz) - centre_cents;
+    double d = model_cents(model, &frames[i], part->reference_hz) - centre_cents;
     sum += d * d;
     *sum_probability += frames[i].voiced_probability;
     *sum_ratio += frames[i].harmonic_ratio;
@@ -579,9 +484,9 @@ static void stray_amplitude(const frame_record *f, double f0_hz, double b,
 }
 
 static bool fits_no_series(const measure_context *context, const frame_record *frames,
-                           int count, double f0_hz, double b) {
+                           int count, double f0_hz, const partial_model *model) {
   double slack_hz = 0.6 * context->sample_rate_hz / context->fft_size;
-  if (!isfinite(b) || b < 0.0) b = 0.0;
+  double b = model->stiff ? model->b : 0.0;
   int loudest = 0;
   for (int i = 1; i < count; ++i)
     if (frames[i].level_dbfs > frames[loudest].level_dbfs) loudest = i;
@@ -593,7 +498,7 @@ static bool fits_no_series(const measure_context *context, const frame_record *f
        drift do not count as stray; an unvoiced one (an attack, a scoop)
        or one whose pitch slipped far from the note's against the note's,
        with more room. */
-    double own_f0_hz = frames[i].voiced ? model_f0_hz(&frames[i], b) : f0_hz;
+    double own_f0_hz = frames[i].voiced ? partial_model_f0_hz(model, &frames[i]) : f0_hz;
     bool own = frames[i].voiced &&
                fabs(1200.0 * log2(own_f0_hz / f0_hz)) <= OWN_PITCH_RANGE_CENTS;
     stray_amplitude(&frames[i], own ? own_f0_hz : f0_hz, b,
@@ -633,11 +538,11 @@ void note_measure(const measure_context *context, const frame_record *frames,
     leave_unpitched(note);
     return;
   }
-  partial_fit fit = fit_partials(frames, &part);
-  note->inharmonicity_b = fit.b;
-  note->partials = fit.partials;
+  partial_model model = partial_model_fit(context, frames, &part);
+  note->inharmonicity_b = model.b;
+  note->partials = model.partials;
   double *cents = scratch;
-  int n = uniform_cents(frames, &part, fit.model_b, cents);
+  int n = uniform_cents(frames, &part, &model, cents);
   vibrato_reading vibrato;
   measure_drift_and_vibrato(context, cents, n, scratch + n, &vibrato,
                             &note->drift_cents_per_s);
@@ -645,7 +550,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
                                         : robust_mean(cents, n, scratch + n);
   double sum_probability, sum_ratio;
   int steady_voiced;
-  note->spread_cents = spread_of(frames, &part, fit.model_b, centre_cents, &sum_probability,
+  note->spread_cents = spread_of(frames, &part, &model, centre_cents, &sum_probability,
                                  &sum_ratio, &steady_voiced);
   if (sum_ratio / steady_voiced < MIN_NOTE_HARMONIC_RATIO) {
     leave_unpitched(note);
@@ -658,7 +563,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
   /* The cents are of the model's fundamental, so the centre is f0 itself. */
   note->f0_hz = part.reference_hz * exp2(centre_cents / 1200.0);
   if (frames[0].legato_start ? context->previous_unpitched
-                             : fits_no_series(context, frames, count, note->f0_hz, fit.model_b)) {
+                             : fits_no_series(context, frames, count, note->f0_hz, &model)) {
     leave_unpitched(note);
     return;
   }

@@ -201,17 +201,17 @@ static error_list all_errors;
 
 /* GM programs (General MIDI 1, zero-based): violin 40, cello 42, trumpet
    56, clarinet 71, flute 73, voice oohs 53, acoustic grand piano 0. Each
-   twin must read within 0.5 cent (the issue's check), except the voice:
-   FluidR3's voice sample is an ensemble with a wandering, chorused pitch
-   (spread 7-11 cents, no periodic vibrato), and its twins read within
-   1.5 cents (the p95 bar for sampled takes); the summary test holds the
-   median and p95 over all instruments to 0.3 and 1.5 cents. */
+   twin must read within 0.5 cent (the issue's check); the summary test
+   holds the median and p95 over all instruments to 0.3 and 1.5 cents.
+   FluidR3's voice is an ensemble sample whose partials are beating
+   clusters: they lean on an apparent B of about 1e-3 at 5-6 standard
+   errors, which must not be taken for a stiff string's. */
 INSTRUMENT_TEST(test_violin, "violin", 40, 62, 69, 76, 0.5)
 INSTRUMENT_TEST(test_cello, "cello", 42, 43, 48, 57, 0.5)
 INSTRUMENT_TEST(test_flute, "flute", 73, 74, 79, 84, 0.5)
 INSTRUMENT_TEST(test_clarinet, "clarinet", 71, 55, 62, 67, 0.5)
 INSTRUMENT_TEST(test_trumpet, "trumpet", 56, 60, 65, 70, 0.5)
-INSTRUMENT_TEST(test_voice, "voice", 53, 57, 62, 64, 1.5)
+INSTRUMENT_TEST(test_voice, "voice", 53, 57, 62, 64, 0.5)
 INSTRUMENT_TEST(test_piano, "piano", 0, 45, 60, 72, 0.5)
 
 static int compare(const void *a, const void *b) {
