@@ -342,17 +342,16 @@ bool note_queue_pop(note_queue *queue, plumb_note *note);
 
 typedef struct {
   uint64_t sample[PLUMB_TIMELINE_MARKS];
-  double position_s[PLUMB_TIMELINE_MARKS];
-  double speed[PLUMB_TIMELINE_MARKS];
+  plumb_transport transport[PLUMB_TIMELINE_MARKS];
   uint32_t count;
 } timeline_marks;
 
 void timeline_reset(timeline_marks *marks);
-void timeline_mark(timeline_marks *marks, uint64_t sample, double position_s,
-                   double speed);
-/* Transport position of audio sample `sample`. */
-double timeline_position(const timeline_marks *marks, uint64_t sample,
-                         double sample_rate_hz);
+void timeline_mark(timeline_marks *marks, uint64_t sample, const plumb_transport *transport);
+/* The transport position (and bar and beat, NaN when unknown) of sample
+   `sample`. */
+void timeline_locate(const timeline_marks *marks, uint64_t sample, double sample_rate_hz,
+                     double *position_s, double *bar, double *beat);
 
 /* ------------------------------------------------------------ stats.c */
 

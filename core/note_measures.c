@@ -51,7 +51,9 @@ static void clear_note(plumb_note *note) {
   note->inharmonicity_b = note->hnr_db = note->odd_even_db = NAN;
   note->centroid_hz = note->attack_ms = note->decay_ms = NAN;
   note->sustain_db = note->release_ms = note->peak_dbfs = NAN;
-  note->timeline_s = NAN;
+  note->decay_db_per_s = NAN;
+  for (int k = 0; k < 3; ++k) note->tristimulus[k] = NAN;
+  note->timeline_s = note->bar = note->beat = NAN;
   for (int k = 0; k < PLUMB_MAX_PARTIALS; ++k) note->partial_cents[k] = NAN;
 }
 

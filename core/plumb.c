@@ -202,7 +202,12 @@ void plumb_finish(plumb *self) {
 }
 
 void plumb_mark_timeline(plumb *self, double position_s, double speed) {
-  if (self) timeline_mark(&self->timeline, self->samples_in, position_s, speed);
+  plumb_transport transport = {position_s, speed, false, 0.0, 0.0, 0.0, 0.0};
+  plumb_mark_transport(self, &transport);
+}
+
+void plumb_mark_transport(plumb *self, const plumb_transport *transport) {
+  if (self && transport) timeline_mark(&self->timeline, self->samples_in, transport);
 }
 
 /* ---------------------------------------------------------------- query */

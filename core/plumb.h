@@ -142,6 +142,8 @@ typedef struct {
   double start_s;            /* where the note starts in the audio */
   double end_s;              /* where it ends */
   double timeline_s;         /* host transport position at the onset */
+  double bar;                /* host's bar at the onset, from 1; NaN if not given */
+  double beat;               /* beat within that bar, from 1.0 */
   int midi;                  /* nearest target, -1 when unpitched */
   double target_hz;
   double f0_hz;              /* centre fundamental, from the partial model */
@@ -159,10 +161,14 @@ typedef struct {
   double attack_ms;
   double decay_ms;
   double sustain_db;
-  double release_ms;
+  double release_ms;          /* T60 from a decay-rate line fit after the offset */
+  double decay_db_per_s;      /* free decay rate of a note with no plateau (plucked, struck) */
+  double tristimulus[3];      /* T1, T2, T3 (Pollard & Jansson 1982) */
   double peak_dbfs;
   plumb_verdict verdict;
-  /* Deviation of partial k+1 from (k+1)*f0 in cents; NaN where not found. */
+  /* Deviation of partial k+1 from (k+1)*f0 in cents; NaN where not found.
+     For an unpitched event, each strong mode sits at the slot of the
+     harmonic of its lowest mode nearest to it. */
   float partial_cents[PLUMB_MAX_PARTIALS];
 } plumb_note;
 
@@ -215,6 +221,23 @@ void plumb_finish(plumb *analyser);
    0 stopped). Notes take timeline_s from the latest mark before their
    onset; with no mark, timeline_s is the time since the last reset. */
 void plumb_mark_timeline(plumb *analyser, double position_s, double speed);
+
+/* The host transport at the next sample, with its musical time when the
+   host gives it (LV2 time:Position's bar, barBeat, beatsPerBar and
+   beatsPerMinute). */
+typedef struct {
+  double position_s;       /* transport position, seconds */
+  double speed;            /* 1 rolling, 0 stopped */
+  bool has_beats;          /* the four below are given */
+  double bar;              /* bars before this one, from 0 */
+  double bar_beat;         /* beats into the bar, from 0 */
+  double beats_per_bar;
+  double beats_per_minute;
+} plumb_transport;
+
+/* [RT] As plumb_mark_timeline(), with bar and beat: notes then also get
+   `bar` and `beat` at their onset. */
+void plumb_mark_transport(plumb *analyser, const plumb_transport *transport);
 
 /* ---------------------------------------------------------------- query */
 

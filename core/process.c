@@ -168,8 +168,8 @@ static void complete_note(void *context, const frame_record *frames, int count) 
   self->measure.previous_unpitched = note.verdict == PLUMB_VERDICT_UNPITCHED;
   note.index = self->next_index++;
   double onset_sample = fmax(0.0, note.start_s * self->settings.sample_rate_hz);
-  note.timeline_s = timeline_position(&self->timeline, (uint64_t)llround(onset_sample),
-                                      self->settings.sample_rate_hz);
+  timeline_locate(&self->timeline, (uint64_t)llround(onset_sample),
+                  self->settings.sample_rate_hz, &note.timeline_s, &note.bar, &note.beat);
   self->counts.notes++;
   if (plumb_verdict_is_flagged(note.verdict)) self->counts.flagged++;
   self->counts.last_note = note;
