@@ -44,6 +44,7 @@ struct plumb {
   double level_dbfs[PLUMB_SPECTRUM_RING];
   double onset_db[PLUMB_SPECTRUM_RING];
   float peak[PLUMB_SPECTRUM_RING];
+  float energy[PLUMB_SPECTRUM_RING][PLUMB_ENVELOPE_STEPS];
   uint64_t centre_sample[PLUMB_SPECTRUM_RING];
   uint64_t frames_analysed;
   viterbi_decoder decoder;

@@ -23,8 +23,9 @@
 #define ACCEPT_RELATIVE_ERROR 0.0175
 /* The stiffest string that stays pitched (issue target: B up to 0.01). */
 #define ACCEPT_B_MAX 0.01
-/* Harmonics above this are left to the note-level partial analysis. */
-#define FRAME_HARMONIC_LIMIT_HZ 8000.0
+/* Partials are searched up to this share of the sample rate, below the
+   anti-aliasing filters' transition band. Common practice, no source. */
+#define PARTIAL_LIMIT_RATE_SHARE 0.45
 
 static double wrap_phase(double phase) {
   return phase - 2.0 * M_PI * floor(phase / (2.0 * M_PI) + 0.5);
@@ -172,6 +173,32 @@ static void drop_outliers(harmonic_set *harmonics, fit_sums *sums, harmonic_fit 
   *sums = kept;
 }
 
+/* For the harmonic-to-noise ratio: every bin of each found harmonic's
+   lobe (the bins nearer to it than to its neighbours), and every bin of
+   the spectrum but DC and Nyquist. */
+static void lobe_and_total_power(const fftwf_complex *bins, int fft_size, double bin_hz,
+                                 int lobe_radius, const harmonic_set *harmonics,
+                                 harmonic_fit *fit) {
+  const int last_bin = fft_size / 2;
+  fit->lobe_power = 0.0;
+  fit->lobe_bins = 0;
+  fit->total_power = 0.0;
+  int covered_to = 0; /* lobes never overlap, nor count a bin twice */
+  for (int n = 0; n < PLUMB_FRAME_HARMONICS; ++n) {
+    if (!(harmonics->frequency_hz[n] > 0.0f)) continue;
+    int centre = (int)lround(harmonics->frequency_hz[n] / bin_hz);
+    int from = centre - lobe_radius, to = centre + lobe_radius;
+    if (from <= covered_to) from = covered_to + 1;
+    if (to > last_bin - 1) to = last_bin - 1;
+    for (int k = from; k <= to; ++k) {
+      fit->lobe_power += bin_power(bins, k);
+      fit->lobe_bins++;
+    }
+    if (to > covered_to) covered_to = to;
+  }
+  for (int k = 1; k < last_bin; ++k) fit->total_power += bin_power(bins, k);
+}
+
 bool harmonics_refine(const fftwf_complex *current,
                       const fftwf_complex *previous, int fft_size, int hop,
                       double sample_rate_hz, double f0_coarse_hz, double noise_power,
@@ -181,7 +208,7 @@ bool harmonics_refine(const fftwf_complex *current,
   fit->harmonic_ratio = 0.0;
   fit->found = 0;
   const double bin_hz = sample_rate_hz / fft_size;
-  const double limit_hz = fmin(FRAME_HARMONIC_LIMIT_HZ, 0.45 * sample_rate_hz);
+  const double limit_hz = PARTIAL_LIMIT_RATE_SHARE * sample_rate_hz;
   const int last_bin = fft_size / 2;
   const int spacing_radius = (int)floor(0.4 * f0_coarse_hz / bin_hz);
   /* Bins that belong to one harmonic: up to 0.45 of the spacing away, so
@@ -242,5 +269,6 @@ bool harmonics_refine(const fftwf_complex *current,
     total += bin_power(current, k);
   fit->f0_hz = f0;
   fit->harmonic_ratio = total > 0.0 ? fmin(1.0, harmonic_energy / total) : 0.0;
+  lobe_and_total_power(current, fft_size, bin_hz, lobe_radius, harmonics, fit);
   return true;
 }

@@ -12,9 +12,12 @@
 
 /* At most this many pitch candidates (YIN troughs) per frame. */
 #define PLUMB_CANDIDATES_MAX 8
-/* Harmonics measured in every frame (the note-level partial search of the
-   harmonicity measures may go further). */
-#define PLUMB_FRAME_HARMONICS 16
+/* Partials measured in every frame: the note's partial analysis averages
+   them over its steady part. */
+#define PLUMB_FRAME_HARMONICS PLUMB_MAX_PARTIALS
+/* Each frame carries the signal's mean square over this many equal steps
+   of the hop around its centre: the note's envelope, at about 0.67 ms. */
+#define PLUMB_ENVELOPE_STEPS 16
 /* Frames between a frame's analysis and its Viterbi decision. */
 #define PLUMB_DECODE_LAG 8
 /* Spectra kept for decisions: the lag, the frame before it, and slack. */
@@ -187,6 +190,12 @@ typedef struct {
   double f0_hz;           /* weighted fit over the harmonics */
   double harmonic_ratio;  /* energy in harmonic peaks / all energy */
   int found;              /* harmonics found */
+  /* For the harmonic-to-noise ratio: the power of the bins of the found
+     harmonics' lobes, how many bins they are, and the power of every bin
+     from 1 to fft_size / 2 - 1. */
+  double lobe_power;
+  int lobe_bins;
+  double total_power;
 } harmonic_fit;
 
 /* |X_k|^2 */
@@ -222,6 +231,11 @@ typedef struct {
   double onset_db;        /* onset detection function */
   float peak;             /* peak |sample| over the hop around the centre */
   harmonic_set harmonics;
+  float noise_power;      /* the spectrum's noise floor, per bin */
+  float lobe_power;       /* harmonic_fit's, for the harmonic-to-noise ratio */
+  float total_power;
+  int lobe_bins;
+  float energy[PLUMB_ENVELOPE_STEPS]; /* mean square of each step of the hop */
   int peak_count;
   spectral_peak peaks[PLUMB_FRAME_PEAKS]; /* the strongest spectral peaks */
 } frame_record;

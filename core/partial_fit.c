@@ -63,15 +63,16 @@ static void sum_ratios(const frame_record *frames, const steady_part *part, rati
 /* A partial's ratio varies over the frames by about noise_scale / (a^2
    n^2) (a frequency reading's variance falls with its power, and n f_t
    scales it); the median over the partials seen often enough. */
-static double noise_scale_of(const ratio_sums *s, double *scratch) {
+static double noise_scale_of(const ratio_sums *s) {
+  double values[PLUMB_FRAME_HARMONICS];
   int m = 0;
   for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
     if (s->found[k] < 3) continue;
     double n = k + 1, mean = s->ratio[k] / s->power[k];
     double variance = fmax(0.0, s->ratio_squared[k] / s->power[k] - mean * mean);
-    scratch[m++] = variance * (s->power[k] / s->found[k]) * n * n;
+    values[m++] = variance * (s->power[k] / s->found[k]) * n * n;
   }
-  return m > 0 ? stats_median(scratch, m) : 0.0;
+  return m > 0 ? stats_median(values, m) : 0.0;
 }
 
 partial_model partial_model_fit(const measure_context *context, const frame_record *frames,
@@ -120,29 +121,37 @@ partial_model partial_model_fit(const measure_context *context, const frame_reco
   model.b = slope > 0.0 ? slope / intercept : 0.0;
   model.b_error = slope_error / intercept;
   model.stiff = slope > SIGNIFICANT_ERRORS * slope_error;
-  double scratch[PLUMB_FRAME_HARMONICS];
-  model.noise_scale = noise_scale_of(&s, scratch);
+  model.noise_scale = noise_scale_of(&s);
   model.independent_frames = independent_frames(context, s.frames);
   return model;
 }
 
 /*
-  A frame's fundamental under the note's model: every partial found gives
-  f_n / (n sqrt(1 + B n^2)), and they are averaged with inverse-variance
-  weights. Under the harmonic model a partial's variance is noise_scale /
-  (a^2 n^2), so the weight is a^2 n^2, as in the frame fit. Under a fitted
-  B the note's error also holds B's own error, which the frames do not
-  average away and which moves partial n by (n^2 / 2) b_error: the weight
-  falls to 1 / (noise_scale / (a^2 n^2 frames) + (n^2 b_error / 2)^2), and
-  an uncertain B leans the pitch on the low partials, where it matters
-  least. Unlike a harmonic fit corrected afterwards, the reading does not
-  move when a frame lacks one partial or another.
+  A frame's fundamental under the note's model: each of the lowest
+  PITCH_PARTIALS partials found gives f_n / (n sqrt(1 + B n^2)), and they
+  are averaged with inverse-variance weights. A partial's variance is
+  noise_scale / (a^2 n^2), so under the harmonic model the weight is a^2
+  n^2, as in the frame fit. Under a fitted B the note's error also holds
+  B's own error, which the frames do not average away and which moves
+  partial n by (n^2 / 2) b_error: the weight falls to 1 / (noise_scale /
+  (a^2 n^2 frames) + (n^2 b_error / 2)^2), and an uncertain B leans the
+  pitch on the low partials, where it matters least. Unlike a harmonic
+  fit corrected afterwards, the reading does not move when a frame lacks
+  one partial or another.
+
+  The partials above PITCH_PARTIALS (found for the harmonicity measures)
+  stay out of the pitch: under a^2 n^2 weights they would lead it, and in
+  an ensemble, whose partials are clusters spreading with n, they beat
+  hardest (FluidR3's voice twins moved apart by 0.45 cent with 40 partials
+  in the pitch, 0.27 with 16).
 */
+#define PITCH_PARTIALS 16
+
 double partial_model_f0_hz(const partial_model *model, const frame_record *frame) {
   double b = model->stiff ? model->b : 0.0;
   bool uncertain = model->stiff && model->noise_scale > 0.0 && model->b_error > 0.0;
   double weighted = 0.0, total = 0.0;
-  for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k) {
+  for (int k = 0; k < PITCH_PARTIALS && k < PLUMB_FRAME_HARMONICS; ++k) {
     double a = frame->harmonics.amplitude[k];
     if (!(a > 0.0)) continue;
     double n = k + 1, w = a * a * n * n;

@@ -43,6 +43,18 @@ static double onset_function(const plumb *self, int slot, int slot_before) {
   return counted > 0 ? rise / counted : 0.0;
 }
 
+/* The mean square of each of PLUMB_ENVELOPE_STEPS equal steps of the hop
+   around the window's centre: the envelope, finer than the frames. */
+static void centre_energy(const plumb *self, float *energy) {
+  int from = self->fft_size / 2 - self->hop / 2, step = self->hop / PLUMB_ENVELOPE_STEPS;
+  for (int s = 0; s < PLUMB_ENVELOPE_STEPS; ++s) {
+    double sum = 0.0;
+    for (int i = from + s * step; i < from + (s + 1) * step; ++i)
+      sum += (double)self->window[i] * self->window[i];
+    energy[s] = (float)(sum / step);
+  }
+}
+
 static float centre_peak(const plumb *self) {
   int from = self->fft_size / 2 - self->hop / 2;
   float peak = 0.0f;
@@ -75,6 +87,7 @@ static void analyse_newest(plumb *self, candidate_set *candidates) {
   bool has_past = frame >= (uint64_t)(self->fft_size / self->hop + 2);
   self->onset_db[slot] = has_past ? onset_function(self, slot, ring_slot(frame - 2)) : 0.0;
   self->peak[slot] = centre_peak(self);
+  centre_energy(self, self->energy[slot]);
   uint64_t end = self->samples_in;
   uint64_t half = (uint64_t)self->fft_size / 2;
   self->centre_sample[slot] = end > half ? end - half : 0;
@@ -104,6 +117,7 @@ static void decide_frame(plumb *self, frame_record *record) {
   record->level_dbfs = self->level_dbfs[slot];
   record->onset_db = self->onset_db[slot];
   record->peak = self->peak[slot];
+  memcpy(record->energy, self->energy[slot], sizeof record->energy);
   record->voiced_probability = candidates->voiced_probability;
   record->f0_hz = NAN;
   if (frame == 0 || record->level_dbfs < SEARCH_GATE_DBFS) return;
@@ -135,10 +149,14 @@ static void decide_frame(plumb *self, frame_record *record) {
   bool evidence = decoded_voiced ? fit.harmonic_ratio >= MIN_HARMONIC_RATIO
                                  : fit.harmonic_ratio >= SPECTRAL_VOICING_RATIO &&
                                        fit.found >= SPECTRAL_VOICING_PARTIALS && lowest_three;
+  record->noise_power = (float)noise_power;
   if (found && evidence && in_range(self, fit.f0_hz)) {
     record->voiced = true;
     record->f0_hz = fit.f0_hz;
     record->harmonic_ratio = fit.harmonic_ratio;
+    record->lobe_power = (float)fit.lobe_power;
+    record->lobe_bins = fit.lobe_bins;
+    record->total_power = (float)fit.total_power;
   } else {
     memset(&record->harmonics, 0, sizeof record->harmonics);
   }
