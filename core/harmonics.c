@@ -23,9 +23,6 @@
 #define ACCEPT_RELATIVE_ERROR 0.0175
 /* The stiffest string that stays pitched (issue target: B up to 0.01). */
 #define ACCEPT_B_MAX 0.01
-/* Partials are searched up to this share of the sample rate, below the
-   anti-aliasing filters' transition band. Common practice, no source. */
-#define PARTIAL_LIMIT_RATE_SHARE 0.45
 
 static double wrap_phase(double phase) {
   return phase - 2.0 * M_PI * floor(phase / (2.0 * M_PI) + 0.5);
@@ -208,7 +205,7 @@ bool harmonics_refine(const fftwf_complex *current,
   fit->harmonic_ratio = 0.0;
   fit->found = 0;
   const double bin_hz = sample_rate_hz / fft_size;
-  const double limit_hz = PARTIAL_LIMIT_RATE_SHARE * sample_rate_hz;
+  const double limit_hz = PLUMB_PARTIAL_LIMIT_RATE_SHARE * sample_rate_hz;
   const int last_bin = fft_size / 2;
   const int spacing_radius = (int)floor(0.4 * f0_coarse_hz / bin_hz);
   /* Bins that belong to one harmonic: up to 0.45 of the spacing away, so

@@ -18,6 +18,9 @@
 /* Each frame carries the signal's mean square over this many equal steps
    of the hop around its centre: the note's envelope, at about 0.67 ms. */
 #define PLUMB_ENVELOPE_STEPS 16
+/* Partials are searched up to this share of the sample rate, below the
+   anti-aliasing filters' transition band. Common practice, no source. */
+#define PLUMB_PARTIAL_LIMIT_RATE_SHARE 0.45
 /* Frames between a frame's analysis and its Viterbi decision. */
 #define PLUMB_DECODE_LAG 8
 /* Spectra kept for decisions: the lag, the frame before it, and slack. */
@@ -293,6 +296,22 @@ double window_step_lead_s(double level_db, double frame_s);
    timeline_s. `scratch` holds at least 4 * count doubles. */
 void note_measure(const measure_context *context, const frame_record *frames,
                   int count, double *scratch, plumb_note *note);
+
+/* ------------------------------------------------------------ timbre.c */
+
+/* Partial deviations, odd/even balance, tristimulus, centroid and
+   harmonic-to-noise ratio of a pitched note (f0_hz set). */
+void note_timbre(const measure_context *context, const frame_record *frames,
+                 const steady_part *part, const partial_model *model, plumb_note *note);
+/* An unpitched event's strong modes against the harmonics of its lowest. */
+void note_mode_cents(const frame_record *frames, int count, plumb_note *note);
+
+/* ------------------------------------------------------------ envelope.c */
+
+/* Attack, decay, sustain, release and free decay rate; f0_hz (0 when the
+   event has no pitch) sets the smoothing. */
+void note_envelope(const measure_context *context, const frame_record *frames, int count,
+                   double f0_hz, plumb_note *note);
 
 /* ------------------------------------------------------------ note_tracker.c */
 

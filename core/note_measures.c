@@ -521,9 +521,10 @@ static bool fits_no_series(const measure_context *context, const frame_record *f
          (attack_total > 0.0 && attack_stray / attack_total > MAX_ATTACK_STRAY_SHARE);
 }
 
-void note_measure(const measure_context *context, const frame_record *frames,
-                  int count, double *scratch, plumb_note *note) {
-  clear_note(note);
+/* Pitch and harmonicity; false, with the note left unpitched, for an
+   event with no definite pitch. */
+static bool measure_pitch(const measure_context *context, const frame_record *frames,
+                          int count, double *scratch, plumb_note *note) {
   note->start_s = refine_start_s(context, frames, count);
   note->end_s = refine_end_s(context, frames, count);
   float peak = 0.0f;
@@ -538,7 +539,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
       !find_steady_part(context, frames, count, note->start_s, note->end_s,
                         scratch, &part)) {
     leave_unpitched(note);
-    return;
+    return false;
   }
   partial_model model = partial_model_fit(context, frames, &part);
   note->inharmonicity_b = model.b;
@@ -556,7 +557,7 @@ void note_measure(const measure_context *context, const frame_record *frames,
                                  &sum_ratio, &steady_voiced);
   if (sum_ratio / steady_voiced < MIN_NOTE_HARMONIC_RATIO) {
     leave_unpitched(note);
-    return;
+    return false;
   }
   if (vibrato.present) {
     note->vibrato_hz = vibrato.rate_hz;
@@ -567,10 +568,20 @@ void note_measure(const measure_context *context, const frame_record *frames,
   if (frames[0].legato_start ? context->previous_unpitched
                              : fits_no_series(context, frames, count, note->f0_hz, &model)) {
     leave_unpitched(note);
-    return;
+    return false;
   }
   note->midi = plumb_tuning_nearest(&context->tuning, note->f0_hz,
                                     &note->target_hz, &note->cents);
   note->confidence = (sum_probability / steady_voiced) * (sum_ratio / steady_voiced);
   note->verdict = judge(context, note, vibrato.present);
+  note_timbre(context, frames, &part, &model, note);
+  return true;
+}
+
+void note_measure(const measure_context *context, const frame_record *frames,
+                  int count, double *scratch, plumb_note *note) {
+  clear_note(note);
+  bool pitched = measure_pitch(context, frames, count, scratch, note);
+  if (!pitched) note_mode_cents(frames, count, note);
+  note_envelope(context, frames, count, pitched ? note->f0_hz : 0.0, note);
 }

@@ -43,10 +43,12 @@ static double onset_function(const plumb *self, int slot, int slot_before) {
   return counted > 0 ? rise / counted : 0.0;
 }
 
-/* The mean square of each of PLUMB_ENVELOPE_STEPS equal steps of the hop
-   around the window's centre: the envelope, finer than the frames. */
-static void centre_energy(const plumb *self, float *energy) {
-  int from = self->fft_size / 2 - self->hop / 2, step = self->hop / PLUMB_ENVELOPE_STEPS;
+/* The mean square of each of PLUMB_ENVELOPE_STEPS equal steps of the
+   window's oldest hop: the envelope, finer than the frames. The oldest,
+   so that a note's frames (which begin about at its onset) also hold the
+   envelope from half a window before: its whole attack. */
+static void oldest_energy(const plumb *self, float *energy) {
+  int from = 0, step = self->hop / PLUMB_ENVELOPE_STEPS;
   for (int s = 0; s < PLUMB_ENVELOPE_STEPS; ++s) {
     double sum = 0.0;
     for (int i = from + s * step; i < from + (s + 1) * step; ++i)
@@ -87,7 +89,7 @@ static void analyse_newest(plumb *self, candidate_set *candidates) {
   bool has_past = frame >= (uint64_t)(self->fft_size / self->hop + 2);
   self->onset_db[slot] = has_past ? onset_function(self, slot, ring_slot(frame - 2)) : 0.0;
   self->peak[slot] = centre_peak(self);
-  centre_energy(self, self->energy[slot]);
+  oldest_energy(self, self->energy[slot]);
   uint64_t end = self->samples_in;
   uint64_t half = (uint64_t)self->fft_size / 2;
   self->centre_sample[slot] = end > half ? end - half : 0;
