@@ -262,7 +262,8 @@ static const char csv_header[] =
     "index,start_s,end_s,timeline_s,note,midi,target_hz,f0_hz,cents,"
     "spread_cents,drift_cents_per_s,vibrato_hz,vibrato_cents,confidence,"
     "inharmonicity_b,partials,hnr_db,odd_even_db,centroid_hz,attack_ms,"
-    "decay_ms,sustain_db,release_ms,peak_dbfs,verdict";
+    "decay_ms,sustain_db,release_ms,peak_dbfs,verdict,"
+    "bar,beat,tristimulus_1,tristimulus_2,tristimulus_3,decay_db_per_s,partial_cents";
 
 const char *plumb_csv_header(void) { return csv_header; }
 
@@ -276,7 +277,10 @@ enum {
   CONFIDENCE_DECIMALS = 3,
   B_DECIMALS = 3,
   DB_DECIMALS = 2,
-  MS_DECIMALS = 1
+  MS_DECIMALS = 1,
+  BEAT_DECIMALS = 3,
+  SHARE_DECIMALS = 4,
+  DB_PER_S_DECIMALS = 2
 };
 
 /* Each field is preceded by the comma that ends the one before. */
@@ -337,6 +341,40 @@ static void put_sound_fields(text_sink *sink, const plumb_note *note) {
   field_verdict(sink, note->verdict);
 }
 
+/* The partials' deviations as "k:cents" entries separated by spaces, for
+   the partials found (docs/log-format.md). */
+static void field_partial_cents(text_sink *sink, const plumb_note *note) {
+  put_char(sink, ',');
+  bool first = true;
+  for (int k = 0; k < PLUMB_MAX_PARTIALS; ++k) {
+    double cents = note->partial_cents[k];
+    if (!isfinite(cents)) {
+      continue;
+    }
+    if (!first) {
+      put_char(sink, ' ');
+    }
+    first = false;
+    put_unsigned(sink, (uint64_t)(k + 1), 1);
+    put_char(sink, ':');
+    if (!signbit(cents)) {
+      put_char(sink, '+');
+    }
+    put_fixed(sink, cents, CENTS_DECIMALS);
+  }
+}
+
+/* The columns after the required ones. */
+static void put_extra_fields(text_sink *sink, const plumb_note *note) {
+  field_fixed(sink, note->bar, 0);
+  field_fixed(sink, note->beat, BEAT_DECIMALS);
+  for (int t = 0; t < 3; ++t) {
+    field_fixed(sink, note->tristimulus[t], SHARE_DECIMALS);
+  }
+  field_fixed(sink, note->decay_db_per_s, DB_PER_S_DECIMALS);
+  field_partial_cents(sink, note);
+}
+
 int plumb_note_to_csv(const plumb_note *note, char *buffer, size_t size) {
   if (!note) {
     return -1;
@@ -348,6 +386,7 @@ int plumb_note_to_csv(const plumb_note *note, char *buffer, size_t size) {
   field_fixed(&sink, note->timeline_s, SECONDS_DECIMALS);
   put_pitch_fields(&sink, note);
   put_sound_fields(&sink, note);
+  put_extra_fields(&sink, note);
   return sink_finish(&sink);
 }
 

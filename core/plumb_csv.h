@@ -34,8 +34,8 @@ const char *plumb_csv_header(void);
    apply (NaN or infinite; -1 for the integer fields midi and partials)
    are left as empty fields, never written as 0. Returns -1 and writes
    nothing when note is NULL. PLUMB_CSV_ROW_MAX bytes always suffice,
-   whatever the values (20 numbers of at most 316 characters each, plus
-   the integers, names and commas). */
+   whatever the values (28 numbers of at most 316 characters each, 40
+   partial entries of at most 50, plus the integers, names and commas). */
 int plumb_note_to_csv(const plumb_note *note, char *buffer, size_t size);
 
 /* The file stem a take label gives its log (docs/log-format.md): every
@@ -47,7 +47,7 @@ int plumb_note_to_csv(const plumb_note *note, char *buffer, size_t size);
 #define PLUMB_LOG_STEM_MAX 100
 size_t plumb_log_stem(const char *label, char *stem);
 
-#define PLUMB_CSV_ROW_MAX 8192
+#define PLUMB_CSV_ROW_MAX 16384
 
 /* value with `decimals` digits after a '.', like printf("%.*f") in the C
    locale. decimals is clamped to 0..9. A NaN or infinite value writes the

@@ -433,9 +433,9 @@ damage() {
   head -n 21 "$src" >"$WORK/first-rows.csv"
   head -c "$(($(wc -c <"$src") - 7))" "$src" >"$WORK/half-row.csv"
   sed '5d' "$src" >"$WORK/lost-row.csv"
-  sed '1s/,verdict$/,verdict,extra/' "$src" >"$WORK/header.csv"
+  sed '1s/$/,extra/' "$src" >"$WORK/header.csv"
   sed '3s/,[^,]*$//' "$src" >"$WORK/short-row.csv"
-  sed '2s/,[a-z-]*$/,unpitched/' "$src" >"$WORK/other-row.csv"
+  sed '2s/,\(in-tune\|sharp\|flat\|unsteady\|unpitched\),/,other,/' "$src" >"$WORK/other-row.csv"
   sed 's/"notes": \([0-9]*\)/"notes": 1\1/' "$FULL/long.run.json" \
     >"$WORK/wrong-totals.json"
   rejects check_log "$WORK/half-row.csv" &&

@@ -97,6 +97,17 @@ static plumb_note known_note(void) {
   note.release_ms = 250.0;
   note.peak_dbfs = -1.5;
   note.verdict = PLUMB_VERDICT_IN_TUNE;
+  note.bar = 13.0;
+  note.beat = 2.5;
+  note.tristimulus[0] = 0.27796;
+  note.tristimulus[1] = 0.30112;
+  note.tristimulus[2] = 0.42092;
+  note.decay_db_per_s = NAN; /* it has a plateau */
+  for (int k = 0; k < PLUMB_MAX_PARTIALS; ++k) note.partial_cents[k] = NAN;
+  note.partial_cents[0] = 0.69f;
+  note.partial_cents[1] = 1.375f;
+  note.partial_cents[9] = 33.95f;
+  note.partial_cents[10] = -0.004f;
   return note;
 }
 
@@ -114,10 +125,14 @@ static plumb_note empty_note(void) {
                         &note.hnr_db,       &note.odd_even_db,
                         &note.centroid_hz,  &note.attack_ms,
                         &note.decay_ms,     &note.sustain_db,
-                        &note.release_ms,   &note.peak_dbfs};
+                        &note.release_ms,   &note.peak_dbfs,
+                        &note.bar,          &note.beat,
+                        &note.tristimulus[0], &note.tristimulus[1],
+                        &note.tristimulus[2], &note.decay_db_per_s};
   for (size_t i = 0; i < sizeof measures / sizeof measures[0]; ++i) {
     *measures[i] = NAN;
   }
+  for (int k = 0; k < PLUMB_MAX_PARTIALS; ++k) note.partial_cents[k] = NAN;
   note.midi = -1;
   note.partials = -1;
   note.verdict = PLUMB_VERDICT_UNPITCHED;
@@ -134,7 +149,9 @@ static void header_is_the_agreed_column_list(void **state) {
       "index,start_s,end_s,timeline_s,note,midi,target_hz,f0_hz,cents,"
       "spread_cents,drift_cents_per_s,vibrato_hz,vibrato_cents,confidence,"
       "inharmonicity_b,partials,hnr_db,odd_even_db,centroid_hz,attack_ms,"
-      "decay_ms,sustain_db,release_ms,peak_dbfs,verdict");
+      "decay_ms,sustain_db,release_ms,peak_dbfs,verdict,"
+      "bar,beat,tristimulus_1,tristimulus_2,tristimulus_3,decay_db_per_s,"
+      "partial_cents");
 }
 
 /* Reference: glibc printf("%.*f") in the C locale. The list holds exact
@@ -217,13 +234,13 @@ static void not_a_number_writes_nothing(void **state) {
 }
 
 /* The interface: a value that does not apply is an empty field, never 0;
-   24 commas separate the 25 columns. */
+   31 commas separate the 32 columns. */
 static void empty_fields_for_values_that_do_not_apply(void **state) {
   (void)state;
   plumb_note note = empty_note();
   char row[PLUMB_CSV_ROW_MAX];
   int length = plumb_note_to_csv(&note, row, sizeof row);
-  assert_string_equal(row, "0,,,,,,,,,,,,,,,,,,,,,,,,unpitched");
+  assert_string_equal(row, "0,,,,,,,,,,,,,,,,,,,,,,,,unpitched,,,,,,,");
   assert_int_equal(length, (int)strlen(row));
 }
 
@@ -237,7 +254,9 @@ static void known_row_is_formatted_as_expected(void **state) {
   assert_string_equal(row,
                       "7,1.2346,2.5000,62.0000,C#4,61,277.183,278.500,8.21,"
                       "1.00,-0.44,5.50,23.46,0.988,1.234e-04,12,24.12,"
-                      "-3.50,1234.568,35.2,120.1,-6.02,250.0,-1.50,in-tune");
+                      "-3.50,1234.568,35.2,120.1,-6.02,250.0,-1.50,in-tune,"
+                      "13,2.500,0.2780,0.3011,0.4209,,"
+                      "1:+0.69 2:+1.38 10:+33.95 11:-0.00");
 }
 
 /* The same row, field by field, against printf in the C locale. */
@@ -249,13 +268,17 @@ static void known_row_agrees_with_printf(void **state) {
   char expected[PLUMB_CSV_ROW_MAX];
   snprintf(expected, sizeof expected,
            "%u,%.4f,%.4f,%.4f,%s,%d,%.3f,%.3f,%.2f,%.2f,%.2f,%.2f,%.2f,"
-           "%.3f,%.3e,%d,%.2f,%.2f,%.3f,%.1f,%.1f,%.2f,%.1f,%.2f,%s",
+           "%.3f,%.3e,%d,%.2f,%.2f,%.3f,%.1f,%.1f,%.2f,%.1f,%.2f,%s,"
+           "%.0f,%.3f,%.4f,%.4f,%.4f,,1:%+.2f 2:%+.2f 10:%+.2f 11:%+.2f",
            (unsigned)n.index, n.start_s, n.end_s, n.timeline_s, name, n.midi,
            n.target_hz, n.f0_hz, n.cents, n.spread_cents, n.drift_cents_per_s,
            n.vibrato_hz, n.vibrato_cents, n.confidence, n.inharmonicity_b,
            n.partials, n.hnr_db, n.odd_even_db, n.centroid_hz, n.attack_ms,
            n.decay_ms, n.sustain_db, n.release_ms, n.peak_dbfs,
-           plumb_verdict_name(n.verdict));
+           plumb_verdict_name(n.verdict), n.bar, n.beat, n.tristimulus[0],
+           n.tristimulus[1], n.tristimulus[2], (double)n.partial_cents[0],
+           (double)n.partial_cents[1], (double)n.partial_cents[9],
+           (double)n.partial_cents[10]);
   char row[PLUMB_CSV_ROW_MAX];
   plumb_note_to_csv(&n, row, sizeof row);
   assert_string_equal(row, expected);
