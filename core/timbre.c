@@ -105,8 +105,8 @@ void note_timbre(const measure_context *context, const frame_record *frames,
 }
 
 /*
-  An unpitched event's modes: over its strong frames (within 10 dB of the
-  loudest), the frequencies of the peaks within 30 dB of each frame's
+  An unpitched event's modes: over its strong frames (from the loudest on,
+  within 10 dB of it), the frequencies of the peaks within 30 dB of each frame's
   strongest. The lowest mode is the median of the frames' lowest peaks;
   each peak goes to the slot of the harmonic of it nearest to it (the
   strongest peak of a frame per slot), and a slot reads the power-weighted
@@ -120,10 +120,20 @@ static bool strong_frame(const frame_record *f, double loudest_dbfs) {
   return f->level_dbfs >= loudest_dbfs - MODE_FRAME_RANGE_DB && f->peak_count > 0;
 }
 
-static double lowest_mode_hz(const frame_record *frames, int count, double loudest_dbfs) {
+/* The loudest frame: modes are read from there on, with the onset's
+   transient already past the window's centre. */
+static int loudest_frame(const frame_record *frames, int count) {
+  int loudest = 0;
+  for (int i = 1; i < count; ++i)
+    if (frames[i].level_dbfs > frames[loudest].level_dbfs) loudest = i;
+  return loudest;
+}
+
+static double lowest_mode_hz(const frame_record *frames, int count, int from,
+                             double loudest_dbfs) {
   double lowest[MODE_FRAMES_MAX];
   int m = 0;
-  for (int i = 0; i < count && m < MODE_FRAMES_MAX; ++i) {
+  for (int i = from; i < count && m < MODE_FRAMES_MAX; ++i) {
     const frame_record *f = &frames[i];
     if (!strong_frame(f, loudest_dbfs)) continue;
     double low = INFINITY;
@@ -136,12 +146,12 @@ static double lowest_mode_hz(const frame_record *frames, int count, double loude
 }
 
 void note_mode_cents(const frame_record *frames, int count, plumb_note *note) {
-  double loudest_dbfs = -INFINITY;
-  for (int i = 0; i < count; ++i) loudest_dbfs = fmax(loudest_dbfs, frames[i].level_dbfs);
-  double low_hz = lowest_mode_hz(frames, count, loudest_dbfs);
+  int from = loudest_frame(frames, count);
+  double loudest_dbfs = frames[from].level_dbfs;
+  double low_hz = lowest_mode_hz(frames, count, from, loudest_dbfs);
   if (!(low_hz > 0.0) || !isfinite(low_hz)) return;
   double weight[PLUMB_MAX_PARTIALS] = {0}, cents[PLUMB_MAX_PARTIALS] = {0};
-  for (int i = 0; i < count; ++i) {
+  for (int i = from; i < count; ++i) {
     const frame_record *f = &frames[i];
     if (!strong_frame(f, loudest_dbfs)) continue;
     double best_power[PLUMB_MAX_PARTIALS] = {0}, best_cents[PLUMB_MAX_PARTIALS] = {0};

@@ -85,6 +85,25 @@ static void test_pitch_is_the_fundamental_of_the_model(void **state) {
   }
 }
 
+static void test_partial_ten_reads_fletchers_stretch(void **state) {
+  (void)state;
+  /* Fletcher (1964) with B = 4e-4 at C4: partial 10 lies at 10 f0
+     sqrt(1 + 100 B), +33.95 cents against 10 f0 (REFERENCES.md); the log's
+     partial_cents reads it within 0.5 cent, and every partial found within
+     0.5 cent of 600 log2(1 + B k^2). */
+  plumb_note note = read_stiff_tone(60, 4e-4, 16);
+  print_message("partial 10: %+.3f cents (Fletcher +33.95)\n", note.partial_cents[9]);
+  assert_true(fabs(note.partial_cents[9] - 33.95) <= 0.5);
+  int found = 0;
+  for (int k = 0; k < 16; ++k) {
+    if (isnan(note.partial_cents[k])) continue;
+    found++;
+    double n = k + 1, expected = 600.0 * log2(1.0 + 4e-4 * n * n);
+    assert_true(fabs(note.partial_cents[k] - expected) <= 0.5);
+  }
+  assert_true(found >= 14);
+}
+
 static void test_young_partial_two_from_b(void **state) {
   (void)state;
   /* Young (1952): partial 2 of C4 about 1.2 cents sharp, B about 3.5e-4.
@@ -101,6 +120,7 @@ int main(void) {
       cmocka_unit_test(test_b_read_within_five_percent),
       cmocka_unit_test(test_harmonic_tone_reads_no_inharmonicity),
       cmocka_unit_test(test_pitch_is_the_fundamental_of_the_model),
+      cmocka_unit_test(test_partial_ten_reads_fletchers_stretch),
       cmocka_unit_test(test_young_partial_two_from_b),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);

@@ -67,6 +67,35 @@ static void test_bar_strikes_are_never_flagged(void **state) {
   print_message("bar: %d events, %d unpitched, %d sharp/flat\n", tally.hits, tally.unpitched,
                 tally.flagged_out_of_tune);
   assert_int_equal(tally.flagged_out_of_tune, 0);
+  /* issue check: a free bar comes out unpitched */
+  assert_int_equal(tally.unpitched, tally.hits);
+}
+
+/* A free bar's second mode, 2.7565 times its lowest (the roots of cos x
+   cosh x = 1, as tests/test_signal.c checks), sits 1200 log2(2.7565 / 3)
+   = -146.5 cents from the third harmonic of the lowest mode, and the log's
+   partial_cents puts it there (the issue's check); the third mode, 5.4039,
+   sits +134.3 cents from the fifth. */
+static void test_bar_modes_read_against_harmonics(void **state) {
+  (void)state;
+  const double fs = 48000.0;
+  size_t n = (size_t)(1.5 * fs);
+  float *x = calloc(n, sizeof(float));
+  sig_strike strike = {SIG_STRIKE_BAR, 440.0, 0.3, 0.4, 3};
+  sig_strike_add(&strike, x + (size_t)(0.3 * fs), n - (size_t)(0.3 * fs), fs);
+  harness_result result;
+  assert_int_equal(harness_run_default(fs, x, n, 512, &result), 0);
+  free(x);
+  assert_int_equal(result.count, 1);
+  const plumb_note *note = &result.notes[0];
+  assert_int_equal(note->verdict, PLUMB_VERDICT_UNPITCHED);
+  double expected_3 = 1200.0 * log2(sig_bar_ratios[1] / 3.0);
+  double expected_5 = 1200.0 * log2(sig_bar_ratios[2] / 5.0);
+  print_message("bar: partial 3 %+.2f cents (expected %+.2f), 5 %+.2f (expected %+.2f)\n",
+                note->partial_cents[2], expected_3, note->partial_cents[4], expected_5);
+  assert_true(fabs(expected_3 + 146.5) < 0.05);
+  assert_true(fabs(note->partial_cents[2] - expected_3) <= 1.0);
+  assert_true(fabs(note->partial_cents[4] - expected_5) <= 1.0);
 }
 
 static void test_noise_bursts_are_unpitched(void **state) {
@@ -92,6 +121,7 @@ int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_membrane_strikes_are_unpitched),
       cmocka_unit_test(test_bar_strikes_are_never_flagged),
+      cmocka_unit_test(test_bar_modes_read_against_harmonics),
       cmocka_unit_test(test_noise_bursts_are_unpitched),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
