@@ -18,13 +18,20 @@
 
 #include <math.h>
 
-/* Common practice, no source. */
+/* Common practice, no source; set on the project's synthetic envelopes
+   and FluidR3's organ, guitar and piano (tests/test_envelope.c,
+   tests/test_sampled_timbre.c). */
 #define SMOOTHING_MIN_S 0.001 /* for events with no pitch */
 #define SMOOTHING_MAX_STEPS 128
-#define PLATEAU_SLOPE_MAX_DB_PER_S 3.0
+#define PLATEAU_SLOPE_MAX_DB_PER_S 5.0 /* a held organ's level wanders +-1.5 dB */
 #define PLATEAU_MIN_S 0.1
-#define PLATEAU_BAND_DB 1.0 /* the release starts below the dwelling level by this */
-#define DECAY_END_DB 1.0    /* the decay has reached the plateau within this */
+#define PLATEAU_MIN_DB (-20.0) /* a pluck's faint, slow tail is no sustain */
+#define PLATEAU_HELD_DB 1.0    /* the plateau is tested up to its last step this close */
+#define PLATEAU_BAND_DB 3.0    /* the release starts below the dwelling level by this */
+#define DECAY_END_DB 1.0       /* the decay has reached the plateau within this */
+/* A peak less than this above the plateau is the level wandering, not a
+   decay stage: the attack then rises to the plateau, not to the peak. */
+#define ATTACK_TO_PLATEAU_DB 4.0
 /* ISO 3382-1: the line is fitted from 5 dB below the start level down to
    25 dB (T20) or 35 dB (T30) below it. T20 is taken when T30's range is
    not reached; a fall of less than 25 dB gives no release. */
@@ -113,78 +120,43 @@ static double line_slope(const line_sums *l) {
   return l->n >= 3.0 && d > 0.0 ? (l->n * l->ty - l->t * l->y) / d : NAN;
 }
 
-/* Where the level crosses `level` between steps j - 1 (at db_before) and j. */
-static double crossing_s(const envelope *e, int j, double db_before, double db, double level) {
-  double span = db - db_before;
-  double fraction = isfinite(span) && span != 0.0 ? (level - db_before) / span : 1.0;
-  if (!(fraction >= 0.0)) fraction = 0.0;
-  if (fraction > 1.0) fraction = 1.0;
-  return step_time_s(e, j - 1 + fraction);
-}
-
-typedef struct {
-  int peak;           /* step of the peak */
-  double peak_db;
-  double attack_ms;
-  int sounding_end;   /* last step within SOUNDING_DB of the peak */
-} attack_reading;
-
-/* Pass 1: the peak. Pass 2: from the last step below 10 % of the peak
-   before it, the 10 % and 90 % crossings (amplitude: -20 and -0.915 dB).
-   What is left of a tone's ripple (about 0.05 dB) lifts the peak a little,
-   which moves a slow attack's 90 % crossing, where the level hardly
-   rises, late by 2-3 % (tests/test_envelope.c). */
-static void measure_attack(const envelope *e, attack_reading *a) {
-  smoother s;
-  smoother_start(&s, e);
-  a->peak = 0;
-  a->peak_db = -INFINITY;
-  for (int j = 0; j < e->steps; ++j, smoother_next(&s)) {
-    double db = smoother_db(&s);
-    if (db > a->peak_db) {
-      a->peak_db = db;
-      a->peak = j;
-    }
-    if (db >= a->peak_db - SOUNDING_DB) a->sounding_end = j;
-  }
-  a->attack_ms = NAN;
-  double low = a->peak_db + 20.0 * log10(0.1), high = a->peak_db + 20.0 * log10(0.9);
-  double previous = -INFINITY, t10 = NAN, t90 = NAN;
-  smoother_start(&s, e);
-  for (int j = 0; j <= a->peak; ++j, smoother_next(&s)) {
-    double db = smoother_db(&s);
-    if (db < low) t10 = t90 = NAN; /* the attack starts after the last quiet step */
-    else if (isnan(t10) && j > 0 && previous < low) t10 = crossing_s(e, j, previous, db, low);
-    if (!isnan(t10) && isnan(t90) && db >= high) t90 = crossing_s(e, j, previous, db, high);
-    previous = db;
-  }
-  if (!isnan(t10) && !isnan(t90)) a->attack_ms = 1000.0 * (t90 - t10);
-}
-
-/* The level the note dwells at longest after the peak: the centre of
-   the MODE_WINDOW_DB span that holds most steps, from a histogram of 0.1 dB
-   bins down to SOUNDING_DB (no scratch memory). A held note's plateau
-   gathers there; a release or a free decay runs through every level at its
-   own rate and gathers nowhere (the slope test then finds no plateau). */
+/* Levels below the peak in 0.1 dB bins down to SOUNDING_DB: medians and
+   the most visited level without scratch memory. */
 #define HISTOGRAM_DB 0.1
-#define HISTOGRAM_BINS 400 /* SOUNDING_DB / HISTOGRAM_DB */
+#define HISTOGRAM_BINS 400  /* SOUNDING_DB / HISTOGRAM_DB */
 #define MODE_WINDOW_BINS 10 /* 1 dB */
 
-static double dwelling_level_db(const envelope *e, const attack_reading *a) {
-  int counts[HISTOGRAM_BINS] = {0};
-  smoother s;
-  smoother_start(&s, e);
-  for (int j = 0; j <= a->sounding_end; ++j, smoother_next(&s)) {
-    if (j < a->peak) continue;
-    int bin = (int)floor((a->peak_db - smoother_db(&s)) / HISTOGRAM_DB);
-    if (bin < 0) bin = 0;
-    if (bin >= HISTOGRAM_BINS) bin = HISTOGRAM_BINS - 1;
-    counts[bin]++;
+typedef struct {
+  int counts[HISTOGRAM_BINS];
+  int total;
+} level_histogram;
+
+static void histogram_add(level_histogram *h, double below_peak_db) {
+  int bin = (int)floor(below_peak_db / HISTOGRAM_DB);
+  if (bin < 0) bin = 0;
+  if (bin >= HISTOGRAM_BINS) bin = HISTOGRAM_BINS - 1;
+  h->counts[bin]++;
+  h->total++;
+}
+
+/* In dB relative to the peak (<= 0). */
+static double histogram_median_db(const level_histogram *h) {
+  int seen = 0;
+  for (int bin = 0; bin < HISTOGRAM_BINS; ++bin) {
+    seen += h->counts[bin];
+    if (2 * seen >= h->total) return -(bin + 0.5) * HISTOGRAM_DB;
   }
+  return -SOUNDING_DB;
+}
+
+/* The centre of the 1 dB span that holds most steps: a held note's
+   plateau gathers there, while a release or a free decay runs through
+   every level at its own rate and gathers nowhere. */
+static double histogram_dwelling_db(const level_histogram *h) {
   int window = 0, best = -1, best_from = 0;
   for (int bin = 0; bin < HISTOGRAM_BINS; ++bin) {
-    window += counts[bin];
-    if (bin >= MODE_WINDOW_BINS) window -= counts[bin - MODE_WINDOW_BINS];
+    window += h->counts[bin];
+    if (bin >= MODE_WINDOW_BINS) window -= h->counts[bin - MODE_WINDOW_BINS];
     int from = bin - MODE_WINDOW_BINS + 1;
     if (from >= 0 && window > best) {
       best = window;
@@ -194,45 +166,122 @@ static double dwelling_level_db(const envelope *e, const attack_reading *a) {
   return -(best_from + 0.5 * MODE_WINDOW_BINS) * HISTOGRAM_DB;
 }
 
-/* After the peak: the release starts after the last step within
-   PLATEAU_BAND_DB of the dwelling level; the plateau is the second half of
-   what lies between the peak and there, if it is long and flat enough. */
-static void measure_after_peak(const envelope *e, const attack_reading *a, plumb_note *note) {
-  int from = a->peak, to = a->sounding_end;
+/* Where the level crosses `level` between steps j - 1 (at db_before) and j. */
+static double crossing_s(const envelope *e, int j, double db_before, double db, double level) {
+  double span = db - db_before;
+  double fraction = isfinite(span) && span != 0.0 ? (level - db_before) / span : 1.0;
+  if (!(fraction >= 0.0)) fraction = 0.0;
+  if (fraction > 1.0) fraction = 1.0;
+  return step_time_s(e, j - 1 + fraction);
+}
+
+/* What the passes find, in dB relative to the peak. */
+typedef struct {
+  int peak;          /* step of the peak */
+  double peak_db;    /* absolute */
+  int sounding_end;  /* last step within SOUNDING_DB of the peak */
+  bool plateau;
+  double plateau_db; /* the plateau's level */
+  int release_start; /* the plateau's last step (the peak without one) */
+} envelope_shape;
+
+/* The peak, and the last step that still sounds. */
+static void find_peak(const envelope *e, envelope_shape *shape) {
+  smoother s;
+  smoother_start(&s, e);
+  shape->peak = 0;
+  shape->peak_db = -INFINITY;
+  shape->sounding_end = 0;
+  for (int j = 0; j < e->steps; ++j, smoother_next(&s)) {
+    double db = smoother_db(&s);
+    if (db > shape->peak_db) {
+      shape->peak_db = db;
+      shape->peak = j;
+    }
+    if (db >= shape->peak_db - SOUNDING_DB) shape->sounding_end = j;
+  }
+}
+
+/* After the peak: the dwelling level, the last steps within
+   PLATEAU_HELD_DB and PLATEAU_BAND_DB of it (the latter is where the
+   release starts), and whether the second half of what lies between the
+   peak and the former is a plateau:
+   long enough, high enough, and level (the medians of its two halves,
+   which a release's first decibels at the end cannot move). */
+static void find_plateau(const envelope *e, envelope_shape *shape) {
+  int from = shape->peak, to = shape->sounding_end;
+  shape->plateau = false;
+  shape->plateau_db = 0.0;
+  shape->release_start = from;
   if (to - from < 3) return;
-  double dwelling_db = dwelling_level_db(e, a);
-  int release_start = from;
+  static const level_histogram empty;
+  level_histogram all = empty;
   smoother s;
   smoother_start(&s, e);
   for (int j = 0; j <= to; ++j, smoother_next(&s))
-    if (j >= from && smoother_db(&s) - a->peak_db >= dwelling_db - PLATEAU_BAND_DB)
-      release_start = j;
-  int middle = from + (release_start - from) / 2;
-  line_sums held = {0};
-  double held_sum = 0.0;
-  smoother_start(&s, e);
-  for (int j = 0; j <= release_start; ++j, smoother_next(&s)) {
-    if (j < middle) continue;
-    double db = smoother_db(&s) - a->peak_db;
-    line_add(&held, step_time_s(e, j), db);
-    held_sum += db;
-  }
-  double held_slope = line_slope(&held);
-  bool plateau = (release_start - middle) * e->step_s >= PLATEAU_MIN_S &&
-                 fabs(held_slope) <= PLATEAU_SLOPE_MAX_DB_PER_S;
-  double top_db = plateau ? held_sum / held.n : 0.0;
-  if (!plateau) release_start = from;
-  /* Where the decay reaches the plateau, and the decay-rate lines from
-     FIT_FROM_DB below the start level (the plateau, or the peak). */
-  int decay_end = -1;
-  line_sums t20 = {0}, t30 = {0};
-  double deepest = 0.0;
+    if (j >= from) histogram_add(&all, shape->peak_db - smoother_db(&s));
+  double dwelling_db = histogram_dwelling_db(&all);
+  int held_end = from, release_start = from;
   smoother_start(&s, e);
   for (int j = 0; j <= to; ++j, smoother_next(&s)) {
     if (j < from) continue;
-    double db = smoother_db(&s) - a->peak_db;
-    if (plateau && decay_end < 0 && db <= top_db + DECAY_END_DB) decay_end = j;
-    if (j < release_start) continue;
+    double db = smoother_db(&s) - shape->peak_db;
+    if (db >= dwelling_db - PLATEAU_HELD_DB) held_end = j;
+    if (db >= dwelling_db - PLATEAU_BAND_DB) release_start = j;
+  }
+  int middle = from + (held_end - from) / 2, quarter = middle + (held_end - middle) / 2;
+  level_histogram early = empty, late = empty, both = empty;
+  smoother_start(&s, e);
+  for (int j = 0; j <= held_end; ++j, smoother_next(&s)) {
+    if (j < middle) continue;
+    double below = shape->peak_db - smoother_db(&s);
+    histogram_add(j < quarter ? &early : &late, below);
+    histogram_add(&both, below);
+  }
+  double held_s = (held_end - middle) * e->step_s;
+  if (held_s < PLATEAU_MIN_S || early.total == 0 || late.total == 0) return;
+  double slope = (histogram_median_db(&late) - histogram_median_db(&early)) / (0.5 * held_s);
+  double level_db = histogram_median_db(&both);
+  if (fabs(slope) > PLATEAU_SLOPE_MAX_DB_PER_S || level_db < PLATEAU_MIN_DB) return;
+  shape->plateau = true;
+  shape->plateau_db = level_db;
+  shape->release_start = release_start;
+}
+
+/* The 10 % and 90 % crossings (amplitude: -20 and -0.915 dB) of the top
+   level, from the last step below 10 % before the peak. */
+static double attack_ms(const envelope *e, const envelope_shape *shape) {
+  double top_db = shape->peak_db;
+  if (shape->plateau && shape->plateau_db > -ATTACK_TO_PLATEAU_DB) top_db += shape->plateau_db;
+  double low = top_db + 20.0 * log10(0.1), high = top_db + 20.0 * log10(0.9);
+  double previous = -INFINITY, t10 = NAN, t90 = NAN;
+  smoother s;
+  smoother_start(&s, e);
+  for (int j = 0; j <= shape->peak; ++j, smoother_next(&s)) {
+    double db = smoother_db(&s);
+    if (db < low) t10 = t90 = NAN; /* the attack starts after the last quiet step */
+    else if (isnan(t10) && j > 0 && previous < low) t10 = crossing_s(e, j, previous, db, low);
+    if (!isnan(t10) && isnan(t90) && db >= high) t90 = crossing_s(e, j, previous, db, high);
+    previous = db;
+  }
+  return !isnan(t10) && !isnan(t90) ? 1000.0 * (t90 - t10) : NAN;
+}
+
+/* The decay to the plateau, and the decay-rate line from FIT_FROM_DB
+   below the start level (the plateau's, or the peak's) down to T30's or
+   T20's depth. */
+static void measure_decays(const envelope *e, const envelope_shape *shape, plumb_note *note) {
+  double top_db = shape->plateau ? shape->plateau_db : 0.0;
+  int decay_end = -1;
+  line_sums t20 = {0}, t30 = {0};
+  double deepest = 0.0;
+  smoother s;
+  smoother_start(&s, e);
+  for (int j = 0; j <= shape->sounding_end; ++j, smoother_next(&s)) {
+    if (j < shape->peak) continue;
+    double db = smoother_db(&s) - shape->peak_db;
+    if (shape->plateau && decay_end < 0 && db <= top_db + DECAY_END_DB) decay_end = j;
+    if (j < shape->release_start) continue;
     double below = top_db - db;
     if (below < FIT_FROM_DB) continue;
     deepest = fmax(deepest, below);
@@ -242,9 +291,9 @@ static void measure_after_peak(const envelope *e, const attack_reading *a, plumb
   double slope = deepest >= FIT_T30_DB   ? line_slope(&t30)
                  : deepest >= FIT_T20_DB ? line_slope(&t20)
                                          : NAN;
-  if (plateau) {
-    note->sustain_db = top_db;
-    if (decay_end >= 0) note->decay_ms = 1000.0 * (decay_end - from) * e->step_s;
+  if (shape->plateau) {
+    note->sustain_db = shape->plateau_db;
+    if (decay_end >= 0) note->decay_ms = 1000.0 * (decay_end - shape->peak) * e->step_s;
     if (slope < 0.0) note->release_ms = 1000.0 * 60.0 / -slope;
   } else if (slope < 0.0) {
     note->decay_db_per_s = slope;
@@ -268,9 +317,10 @@ void note_envelope(const measure_context *context, const frame_record *frames, i
   if (length < 2) length = 2;
   if (length > SMOOTHING_MAX_STEPS) length = SMOOTHING_MAX_STEPS;
   e.length = length;
-  attack_reading a;
-  measure_attack(&e, &a);
-  if (!isfinite(a.peak_db)) return;
-  note->attack_ms = a.attack_ms;
-  measure_after_peak(&e, &a, note);
+  envelope_shape shape;
+  find_peak(&e, &shape);
+  if (!isfinite(shape.peak_db)) return;
+  find_plateau(&e, &shape);
+  note->attack_ms = attack_ms(&e, &shape);
+  measure_decays(&e, &shape, note);
 }
