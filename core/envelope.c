@@ -3,7 +3,7 @@
   the sustain plateau, the plateau's level, and the release as a decay-rate
   line fit reported as the time to fall 60 dB (in the manner of ISO 3382's
   T20 and T30); for a note with no plateau (plucked, struck), the free
-  decay rate in dB/s. Definitions: docs/methods.md, section 7.
+  decay rate in dB/s. Definitions: docs/methods.md, section 9.
 
   The envelope is the RMS of the signal smoothed by two running means in
   cascade (a triangular window), each about one period of the note long:

@@ -4,7 +4,7 @@
   Jansson 1982), the amplitude-weighted centroid and the harmonic-to-noise
   ratio. For an event with no definite pitch, the deviation of each strong
   mode from the nearest harmonic of its lowest mode. Definitions:
-  docs/methods.md, section 6.
+  docs/methods.md, section 8.
 */
 #include "internal.h"
 
