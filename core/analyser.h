@@ -52,6 +52,7 @@ struct plumb {
   note_tracker tracker;
   measure_context measure;
   double *scratch;
+  float *levels_db;          /* a note's envelope (PLUMB_ENVELOPE_STEPS a frame) */
   note_queue queue;          /* for the consumer thread (the log writer) */
   note_queue here_queue;     /* for the audio thread itself (notify output) */
   timeline_marks timeline;

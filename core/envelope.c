@@ -11,8 +11,9 @@
   of the mean square, and the window's spread (its standard deviation,
   about 0.4 period) barely moves an attack's crossings. The steps come from
   the frames (PLUMB_ENVELOPE_STEPS each, from the oldest hop of each
-  frame's window). Every pass is one running sum: the cost is linear in
-  the note's length.
+  frame's window). The smoothed levels are computed once, into the
+  caller's buffer; every reading is then a pass over them: the cost is
+  linear in the note's length.
 */
 #include "internal.h"
 
@@ -48,6 +49,7 @@ typedef struct {
   int length;     /* steps of each running mean */
   double step_s;
   double first_s; /* centre of step 0 */
+  float *db;      /* the smoothed level of every step, dBFS */
 } envelope;
 
 static double step_energy(const envelope *e, int j) {
@@ -79,10 +81,10 @@ static void smoother_feed(smoother *s) {
   s->slot = (s->slot + 1) % n;
 }
 
-static void smoother_start_length(smoother *s, const envelope *e, int length) {
+static void smoother_start(smoother *s, const envelope *e) {
   s->e = e;
-  s->length = length;
-  int n = length;
+  s->length = e->length;
+  int n = e->length;
   double x = step_energy(e, 0);
   for (int i = 0; i < n; ++i) s->first[i] = s->second[i] = x;
   s->first_sum = s->second_sum = n * x;
@@ -91,15 +93,18 @@ static void smoother_start_length(smoother *s, const envelope *e, int length) {
   for (int i = 0; i <= n - 1; ++i) smoother_feed(s); /* now centred on step 0 */
 }
 
-static void smoother_start(smoother *s, const envelope *e) {
-  smoother_start_length(s, e, e->length);
-}
-
 static void smoother_next(smoother *s) { smoother_feed(s); }
 
 static double smoother_db(const smoother *s) {
   double mean = fmax(s->second_sum, 0.0) / s->length;
   return mean > 0.0 ? 10.0 * log10(mean) : -INFINITY;
+}
+
+/* The smoothed level of every step, once: the passes below read it. */
+static void smooth_levels(envelope *e) {
+  smoother s;
+  smoother_start(&s, e);
+  for (int j = 0; j < e->steps; ++j, smoother_next(&s)) e->db[j] = (float)smoother_db(&s);
 }
 
 /* Least-squares line through (time, dB). */
@@ -187,13 +192,11 @@ typedef struct {
 
 /* The peak, and the last step that still sounds. */
 static void find_peak(const envelope *e, envelope_shape *shape) {
-  smoother s;
-  smoother_start(&s, e);
   shape->peak = 0;
   shape->peak_db = -INFINITY;
   shape->sounding_end = 0;
-  for (int j = 0; j < e->steps; ++j, smoother_next(&s)) {
-    double db = smoother_db(&s);
+  for (int j = 0; j < e->steps; ++j) {
+    double db = e->db[j];
     if (db > shape->peak_db) {
       shape->peak_db = db;
       shape->peak = j;
@@ -216,25 +219,21 @@ static void find_plateau(const envelope *e, envelope_shape *shape) {
   if (to - from < 3) return;
   static const level_histogram empty;
   level_histogram all = empty;
-  smoother s;
-  smoother_start(&s, e);
-  for (int j = 0; j <= to; ++j, smoother_next(&s))
-    if (j >= from) histogram_add(&all, shape->peak_db - smoother_db(&s));
+  for (int j = 0; j <= to; ++j)
+    if (j >= from) histogram_add(&all, shape->peak_db - e->db[j]);
   double dwelling_db = histogram_dwelling_db(&all);
   int held_end = from, release_start = from;
-  smoother_start(&s, e);
-  for (int j = 0; j <= to; ++j, smoother_next(&s)) {
+  for (int j = 0; j <= to; ++j) {
     if (j < from) continue;
-    double db = smoother_db(&s) - shape->peak_db;
+    double db = e->db[j] - shape->peak_db;
     if (db >= dwelling_db - PLATEAU_HELD_DB) held_end = j;
     if (db >= dwelling_db - PLATEAU_BAND_DB) release_start = j;
   }
   int middle = from + (held_end - from) / 2, quarter = middle + (held_end - middle) / 2;
   level_histogram early = empty, late = empty, both = empty;
-  smoother_start(&s, e);
-  for (int j = 0; j <= held_end; ++j, smoother_next(&s)) {
+  for (int j = 0; j <= held_end; ++j) {
     if (j < middle) continue;
-    double below = shape->peak_db - smoother_db(&s);
+    double below = shape->peak_db - e->db[j];
     histogram_add(j < quarter ? &early : &late, below);
     histogram_add(&both, below);
   }
@@ -255,10 +254,8 @@ static double attack_ms(const envelope *e, const envelope_shape *shape) {
   if (shape->plateau && shape->plateau_db > -ATTACK_TO_PLATEAU_DB) top_db += shape->plateau_db;
   double low = top_db + 20.0 * log10(0.1), high = top_db + 20.0 * log10(0.9);
   double previous = -INFINITY, t10 = NAN, t90 = NAN;
-  smoother s;
-  smoother_start(&s, e);
-  for (int j = 0; j <= shape->peak; ++j, smoother_next(&s)) {
-    double db = smoother_db(&s);
+  for (int j = 0; j <= shape->peak; ++j) {
+    double db = e->db[j];
     if (db < low) t10 = t90 = NAN; /* the attack starts after the last quiet step */
     else if (isnan(t10) && j > 0 && previous < low) t10 = crossing_s(e, j, previous, db, low);
     if (!isnan(t10) && isnan(t90) && db >= high) t90 = crossing_s(e, j, previous, db, high);
@@ -275,11 +272,9 @@ static void measure_decays(const envelope *e, const envelope_shape *shape, plumb
   int decay_end = -1;
   line_sums t20 = {0}, t30 = {0};
   double deepest = 0.0;
-  smoother s;
-  smoother_start(&s, e);
-  for (int j = 0; j <= shape->sounding_end; ++j, smoother_next(&s)) {
+  for (int j = 0; j <= shape->sounding_end; ++j) {
     if (j < shape->peak) continue;
-    double db = smoother_db(&s) - shape->peak_db;
+    double db = e->db[j] - shape->peak_db;
     if (shape->plateau && decay_end < 0 && db <= top_db + DECAY_END_DB) decay_end = j;
     if (j < shape->release_start) continue;
     double below = top_db - db;
@@ -301,10 +296,11 @@ static void measure_decays(const envelope *e, const envelope_shape *shape, plumb
 }
 
 void note_envelope(const measure_context *context, const frame_record *frames, int count,
-                   double f0_hz, plumb_note *note) {
+                   double f0_hz, float *levels_db, plumb_note *note) {
   if (count < 1) return;
   envelope e;
   e.frames = frames;
+  e.db = levels_db;
   e.steps = count * PLUMB_ENVELOPE_STEPS;
   e.step_s = context->hop_s / PLUMB_ENVELOPE_STEPS;
   /* Steps cover the oldest hop of each frame's window. */
@@ -317,6 +313,7 @@ void note_envelope(const measure_context *context, const frame_record *frames, i
   if (length < 2) length = 2;
   if (length > SMOOTHING_MAX_STEPS) length = SMOOTHING_MAX_STEPS;
   e.length = length;
+  smooth_levels(&e);
   envelope_shape shape;
   find_peak(&e, &shape);
   if (!isfinite(shape.peak_db)) return;

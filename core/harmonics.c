@@ -23,6 +23,8 @@
 #define ACCEPT_RELATIVE_ERROR 0.0175
 /* The stiffest string that stays pitched (issue target: B up to 0.01). */
 #define ACCEPT_B_MAX 0.01
+/* Common practice, no source. */
+#define MISSES_TO_STOP 4
 
 static double wrap_phase(double phase) {
   return phase - 2.0 * M_PI * floor(phase / (2.0 * M_PI) + 0.5);
@@ -75,19 +77,24 @@ static double harmonic_frequency_bins(const fftwf_complex *current,
   return total > 0.0 ? weighted / total : (double)peak;
 }
 
-/* The strongest local maximum within radius of `centre`; -1 if none. */
+/* The strongest local maximum within radius of `centre`; -1 if none.
+   Each bin's power is computed once, as the window slides. */
 static int find_peak(const fftwf_complex *bins, int centre, int radius,
                      int last_bin) {
+  int from = centre - radius < 1 ? 1 : centre - radius;
+  int to = centre + radius > last_bin - 1 ? last_bin - 1 : centre + radius;
+  if (from > to) return -1;
   int best = -1;
   double best_power = 0.0;
-  for (int k = centre - radius; k <= centre + radius; ++k) {
-    if (k < 1 || k >= last_bin) continue;
-    double p = bin_power(bins, k);
-    if (p > best_power && p >= bin_power(bins, k - 1) &&
-        p >= bin_power(bins, k + 1)) {
+  double before = bin_power(bins, from - 1), here = bin_power(bins, from);
+  for (int k = from; k <= to; ++k) {
+    double after = bin_power(bins, k + 1);
+    if (here > best_power && here >= before && here >= after) {
       best = k;
-      best_power = p;
+      best_power = here;
     }
+    before = here;
+    here = after;
   }
   return best;
 }
@@ -171,15 +178,12 @@ static void drop_outliers(harmonic_set *harmonics, fit_sums *sums, harmonic_fit 
 }
 
 /* For the harmonic-to-noise ratio: every bin of each found harmonic's
-   lobe (the bins nearer to it than to its neighbours), and every bin of
-   the spectrum but DC and Nyquist. */
-static void lobe_and_total_power(const fftwf_complex *bins, int fft_size, double bin_hz,
-                                 int lobe_radius, const harmonic_set *harmonics,
-                                 harmonic_fit *fit) {
+   lobe (the bins nearer to it than to its neighbours). */
+static void lobe_power(const fftwf_complex *bins, int fft_size, double bin_hz,
+                       int lobe_radius, const harmonic_set *harmonics, harmonic_fit *fit) {
   const int last_bin = fft_size / 2;
   fit->lobe_power = 0.0;
   fit->lobe_bins = 0;
-  fit->total_power = 0.0;
   int covered_to = 0; /* lobes never overlap, nor count a bin twice */
   for (int n = 0; n < PLUMB_FRAME_HARMONICS; ++n) {
     if (!(harmonics->frequency_hz[n] > 0.0f)) continue;
@@ -193,7 +197,6 @@ static void lobe_and_total_power(const fftwf_complex *bins, int fft_size, double
     }
     if (to > covered_to) covered_to = to;
   }
-  for (int k = 1; k < last_bin; ++k) fit->total_power += bin_power(bins, k);
 }
 
 bool harmonics_refine(const fftwf_complex *current,
@@ -218,6 +221,7 @@ bool harmonics_refine(const fftwf_complex *current,
   double harmonic_energy = 0.0;
   int last_harmonic_bin = 0;
   const double floor_power = PLUMB_ABOVE_NOISE * noise_power;
+  int missed_in_a_row = 0;
   for (int n = 1; n <= PLUMB_FRAME_HARMONICS; ++n) {
     double expected_hz = expected_harmonic_hz(&sums, n, f0);
     if (expected_hz > limit_hz) break;
@@ -240,7 +244,13 @@ bool harmonics_refine(const fftwf_complex *current,
     int centre = low_bin + radius;
     last_harmonic_bin = centre + radius;
     int k = find_peak(current, centre, radius, last_bin);
-    if (k < 0 || bin_power(current, k) < floor_power) continue;
+    if (k < 0 || bin_power(current, k) < floor_power) {
+      /* Above the partials the pitch uses, a run of misses ends the
+         search: the series has sunk into the noise. */
+      if (++missed_in_a_row >= MISSES_TO_STOP && n > PLUMB_PITCH_PARTIALS) break;
+      continue;
+    }
+    missed_in_a_row = 0;
     double power;
     double frequency_bins = harmonic_frequency_bins(current, previous, k, lobe_radius,
                                                     fft_size, hop, &power);
@@ -257,15 +267,21 @@ bool harmonics_refine(const fftwf_complex *current,
   if (fit->found >= 3) drop_outliers(harmonics, &sums, fit, &harmonic_energy);
   if (fit->found == 0 || !(sums.weighted_nn > 0.0)) return false;
   f0 = sums.weighted_nf / sums.weighted_nn;
-  /* Energy from half the fundamental up to the last harmonic searched. */
-  double total = 0.0;
+  /* Energy from half the fundamental up to the last harmonic searched,
+     and (for the harmonic-to-noise ratio) of every bin but DC and Nyquist,
+     in one pass. */
+  double total = 0.0, all = 0.0;
   int first_bin = (int)floor(0.5 * f0_coarse_hz / bin_hz);
   if (first_bin < 1) first_bin = 1;
   if (last_harmonic_bin + 2 > last_bin) last_harmonic_bin = last_bin - 2;
-  for (int k = first_bin; k <= last_harmonic_bin + 2; ++k)
-    total += bin_power(current, k);
+  for (int k = 1; k < last_bin; ++k) {
+    double p = bin_power(current, k);
+    all += p;
+    if (k >= first_bin && k <= last_harmonic_bin + 2) total += p;
+  }
   fit->f0_hz = f0;
   fit->harmonic_ratio = total > 0.0 ? fmin(1.0, harmonic_energy / total) : 0.0;
-  lobe_and_total_power(current, fft_size, bin_hz, lobe_radius, harmonics, fit);
+  fit->total_power = all;
+  lobe_power(current, fft_size, bin_hz, lobe_radius, harmonics, fit);
   return true;
 }

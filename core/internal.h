@@ -15,6 +15,8 @@
 /* Partials measured in every frame: the note's partial analysis averages
    them over its steady part. */
 #define PLUMB_FRAME_HARMONICS PLUMB_MAX_PARTIALS
+/* The lowest partials, which a note's pitch is measured from (partial_fit.c). */
+#define PLUMB_PITCH_PARTIALS 16
 /* Each frame carries the signal's mean square over this many equal steps
    of the hop around its centre: the note's envelope, at about 0.67 ms. */
 #define PLUMB_ENVELOPE_STEPS 16
@@ -293,9 +295,10 @@ double partial_model_f0_hz(const partial_model *model, const frame_record *frame
 double window_step_lead_s(double level_db, double frame_s);
 
 /* Measure one note from its frames and fill everything but index and
-   timeline_s. `scratch` holds at least 4 * count doubles. */
+   timeline_s. `scratch` holds at least 4 * count doubles, levels_db
+   count * PLUMB_ENVELOPE_STEPS floats. */
 void note_measure(const measure_context *context, const frame_record *frames,
-                  int count, double *scratch, plumb_note *note);
+                  int count, double *scratch, float *levels_db, plumb_note *note);
 
 /* ------------------------------------------------------------ timbre.c */
 
@@ -311,7 +314,7 @@ void note_mode_cents(const frame_record *frames, int count, plumb_note *note);
 /* Attack, decay, sustain, release and free decay rate; f0_hz (0 when the
    event has no pitch) sets the smoothing. */
 void note_envelope(const measure_context *context, const frame_record *frames, int count,
-                   double f0_hz, plumb_note *note);
+                   double f0_hz, float *levels_db, plumb_note *note);
 
 /* ------------------------------------------------------------ note_tracker.c */
 

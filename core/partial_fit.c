@@ -128,7 +128,7 @@ partial_model partial_model_fit(const measure_context *context, const frame_reco
 
 /*
   A frame's fundamental under the note's model: each of the lowest
-  PITCH_PARTIALS partials found gives f_n / (n sqrt(1 + B n^2)), and they
+  PLUMB_PITCH_PARTIALS partials found gives f_n / (n sqrt(1 + B n^2)), and they
   are averaged with inverse-variance weights. A partial's variance is
   noise_scale / (a^2 n^2), so under the harmonic model the weight is a^2
   n^2, as in the frame fit. Under a fitted B the note's error also holds
@@ -139,19 +139,17 @@ partial_model partial_model_fit(const measure_context *context, const frame_reco
   fit corrected afterwards, the reading does not move when a frame lacks
   one partial or another.
 
-  The partials above PITCH_PARTIALS (found for the harmonicity measures)
+  The partials above PLUMB_PITCH_PARTIALS (found for the harmonicity measures)
   stay out of the pitch: under a^2 n^2 weights they would lead it, and in
   an ensemble, whose partials are clusters spreading with n, they beat
   hardest (FluidR3's voice twins moved apart by 0.45 cent with 40 partials
   in the pitch, 0.27 with 16).
 */
-#define PITCH_PARTIALS 16
-
 double partial_model_f0_hz(const partial_model *model, const frame_record *frame) {
   double b = model->stiff ? model->b : 0.0;
   bool uncertain = model->stiff && model->noise_scale > 0.0 && model->b_error > 0.0;
   double weighted = 0.0, total = 0.0;
-  for (int k = 0; k < PITCH_PARTIALS && k < PLUMB_FRAME_HARMONICS; ++k) {
+  for (int k = 0; k < PLUMB_PITCH_PARTIALS; ++k) {
     double a = frame->harmonics.amplitude[k];
     if (!(a > 0.0)) continue;
     double n = k + 1, w = a * a * n * n;

@@ -78,7 +78,8 @@ static plumb_status allocate(plumb *self) {
   self->half_window = fftwf_alloc_real((size_t)self->fft_size / 2);
   if (!self->half_window) return PLUMB_ERR_MEMORY;
   self->scratch = malloc(sizeof(double) * 4 * PLUMB_NOTE_FRAMES_MAX);
-  if (!self->window || !self->scratch) return PLUMB_ERR_MEMORY;
+  self->levels_db = malloc(sizeof(float) * PLUMB_ENVELOPE_STEPS * PLUMB_NOTE_FRAMES_MAX);
+  if (!self->window || !self->scratch || !self->levels_db) return PLUMB_ERR_MEMORY;
   for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) {
     self->spectra[i] = fftwf_alloc_complex((size_t)self->fft_size / 2 + 1);
     if (!self->spectra[i]) return PLUMB_ERR_MEMORY;
@@ -127,6 +128,7 @@ void plumb_free(plumb *self) {
   fftwf_free(self->window);
   fftwf_free(self->half_window);
   free(self->scratch);
+  free(self->levels_db);
   free(self);
 }
 

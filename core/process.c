@@ -184,7 +184,7 @@ static void update_live(plumb *self, const frame_record *record) {
 static void complete_note(void *context, const frame_record *frames, int count) {
   plumb *self = context;
   plumb_note note;
-  note_measure(&self->measure, frames, count, self->scratch, &note);
+  note_measure(&self->measure, frames, count, self->scratch, self->levels_db, &note);
   self->measure.previous_unpitched = note.verdict == PLUMB_VERDICT_UNPITCHED;
   note.index = self->next_index++;
   double onset_sample = fmax(0.0, note.start_s * self->settings.sample_rate_hz);
