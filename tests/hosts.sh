@@ -67,17 +67,18 @@ finish() {
 
 # ------------------------------------------------------------ the take
 
-# make_take WAV TRUTH: 4 s, 48 kHz mono float; four harmonic tones of
-# 0.6 s with 20 ms raised-cosine ramps, one of them 25 cents sharp.
+# make_take WAV TRUTH [RATE_HZ]: 4 s, mono float at RATE_HZ (48 kHz by
+# default); four harmonic tones of 0.6 s with 20 ms raised-cosine ramps,
+# one of them 25 cents sharp.
 # TRUTH gets one line a note: midi cents name flagged (flagged when more
 # than the default tolerance, 10 cents, docs/command.md).
 make_take() {
-  "$PYTHON" - "$1" "$2" <<'EOF'
+  "$PYTHON" - "$1" "$2" "${3:-48000}" <<'EOF'
 import sys
 import numpy as np
 from scipy.io import wavfile
 
-rate_hz = 48000
+rate_hz = int(sys.argv[3])
 notes = [(57, 0.0), (64, 25.0), (69, 0.0), (60, 0.0)]  # (MIDI, cents)
 start_s, length_s, gap_s, ramp_s = 0.3, 0.6, 0.3, 0.02
 names = ["C", "C#", "D", "D#", "E", "F", "F#", "G", "G#", "A", "A#", "B"]
@@ -339,5 +340,30 @@ else
   fail "plumb scan: logs byte-identical at --block 1, 64 and 4096"
   echo "    # some runs left no log"
 fi
+
+# ------------------------------------------------------------ sample rates
+
+# A host changes the sample rate by instantiating the plugin anew. One
+# `plumb scan -j 1` over takes at four rates instantiates it four times in
+# one process, one rate after the other; every log must still hold the
+# generated notes at their cents.
+rates="22050 44100 96000 192000"
+set --
+for rate in $rates; do
+  make_take "$WORK/rate-$rate.wav" "$WORK/rate-$rate.txt" "$rate" || exit 2
+  set -- "$@" "$WORK/rate-$rate.wav"
+done
+"$PLUMB" scan -j 1 -o "$WORK/rates" "$@" >"$WORK/rates.stdout" 2>"$WORK/rates.stderr"
+check "plumb scan -j 1 over takes at $rates Hz: exit status 0" \
+  exits_zero "$?" "$WORK/rates.stderr"
+for rate in $rates; do
+  log=$WORK/rates/rate-$rate.notes.csv
+  if [ -f "$log" ]; then
+    check "re-instantiated at $rate Hz: one row a generated note (MIDI, cents)" \
+      rows_match_truth "$log" "$WORK/rate-$rate.txt"
+  else
+    fail "re-instantiated at $rate Hz: the log rate-$rate.notes.csv"
+  fi
+done
 
 finish
