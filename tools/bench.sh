@@ -7,8 +7,11 @@
 #   - the whole analysis against the bare FFTW transforms it needs;
 #   - aubionotes against `plumb scan -j 1` on the same file;
 #   - memory per instance; the worst plumb_process() call for 64-frame
-#     blocks; note accuracy on the harness's random takes; and, when
-#     valgrind is installed, the core's instruction count.
+#     blocks; the cost of a 64-frame block on a loud note, its decay into
+#     subnormal floats and silence, through run() and through the core
+#     with and without FTZ/DAZ (bench_silence); note accuracy on the
+#     harness's random takes; and, when valgrind is installed, the core's
+#     instruction count.
 # Timings are the best of 3 runs. The targets are printed beside the
 # figures; the benchmark never fails because of them: it exits 0 unless
 # something could not run. docs/benchmarks.md explains every figure.
@@ -25,7 +28,7 @@ out=$build/bench
 take=$out/take.wav
 runs=${BENCH_RUNS:-3}
 failed=""
-tools="bench_take bench_core bench_fft bench_memory bench_accuracy bench_run"
+tools="bench_take bench_core bench_fft bench_memory bench_accuracy bench_run bench_silence"
 
 # value KEY FILE: KEY=... from the file's "values:" lines.
 value() { sed -n "s/^values:.* $1=\([^ ]*\).*/\1/p" "$2" 2>/dev/null | tail -n 1; }
@@ -58,7 +61,7 @@ step() {
 
 mkdir -p "$out" || exit 1
 # Outputs of an earlier run must not stand in for a step that fails now.
-for f in core fft scan aubio latency memory accuracy callgrind; do
+for f in core fft scan aubio latency memory accuracy callgrind silence; do
   rm -f "$out/$f.txt" "$out/$f.err"
 done
 targets=""
@@ -125,6 +128,12 @@ echo "== worst plumb_process() call, 64-frame blocks"
 step latency "$build/tools/bench_core" latency "$take" "$runs"
 echo
 
+# Cheap (about 0.3 s a run), so three times the runs: a floor over more
+# runs removes more preemption from the worst blocks.
+echo "== decay into silence: the cost of a 64-frame block (bench_silence)"
+step silence "$build/tools/bench_silence" "$build/plumb.lv2" "$((runs * 3))"
+echo
+
 echo "== memory per instance (bench_memory)"
 step memory "$build/tools/bench_memory" 8
 echo
@@ -183,6 +192,20 @@ printf '%-34s %-34s\n' "worst 64-frame call (floor)" \
   "$(value floor_max_us "$out/latency.txt") us, p99.9 $(value floor_p999_us "$out/latency.txt") us"
 printf '%-34s %-34s\n' "note F1, |cents| median / p95" \
   "$(value f1 "$out/accuracy.txt"), $(value cents_median "$out/accuracy.txt") / $(value cents_p95 "$out/accuracy.txt") c"
+# silence KEY: a value of bench_silence; per_loud WAY PART STAT: the ratio
+# of a part's figure to the loud part's.
+silence() { value "$1" "$out/silence.txt"; }
+per_loud() { ratio "$(silence "$1_$2_$3_us")" "$(silence "$1_loud_$3_us")"; }
+for part in loud decay tail silence; do
+  figures="median $(silence "plugin_${part}_median_us"), mean $(silence "plugin_${part}_mean_us")"
+  figures="$figures, worst $(silence "plugin_${part}_worst_us") us"
+  ratios="$(per_loud plugin "$part" median), $(per_loud plugin "$part" mean)"
+  ratios="$ratios, $(per_loud plugin "$part" worst)"
+  printf '%-34s %s; / loud: %s\n' "run(), 64 frames, $part" "$figures" "$ratios"
+done
+tail_mean=$(ratio "$(silence core_tail_mean_us)" "$(silence core_ftz_tail_mean_us)")
+tail_worst=$(ratio "$(silence core_tail_worst_us)" "$(silence core_ftz_tail_worst_us)")
+printf '%-34s %s\n' "core tail, no FTZ/DAZ / FTZ+DAZ" "mean ${tail_mean}x, worst ${tail_worst}x"
 [ -n "$instructions" ] && printf '%-34s %-34s\n' "instructions (callgrind)" \
   "${instructions} M per audio second"
 echo "load average at end: $(cut -d' ' -f1-3 /proc/loadavg)"

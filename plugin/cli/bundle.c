@@ -3,7 +3,9 @@
   1. <folder of the executable>/plumb.lv2/ (the build tree: build/plumb and
      build/plumb.lv2);
   2. <folder of the executable>/../lib/lv2/plumb.lv2/ (an installed
-     layout, PREFIX/bin/plumb and PREFIX/lib/lv2/plumb.lv2).
+     layout, PREFIX/bin/plumb and PREFIX/lib/lv2/plumb.lv2);
+  3. <folder of the executable>/../../.lv2/plumb.lv2/ (make install-user:
+     ~/.local/bin/plumb and ~/.lv2/plumb.lv2).
   Only this one bundle is loaded, so another plumb installed elsewhere on
   LV2_PATH can never be picked up by mistake.
 */
@@ -18,8 +20,8 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-static const char *const bundle_places[] = {"plumb.lv2/",
-                                            "../lib/lv2/plumb.lv2/"};
+static const char *const bundle_places[] = {"plumb.lv2/", "../lib/lv2/plumb.lv2/",
+                                            "../../.lv2/plumb.lv2/"};
 
 /* The folder of /proc/self/exe, with a trailing '/'. */
 static bool executable_folder(char *folder, size_t size) {
@@ -56,9 +58,9 @@ static bool find_bundle(char *path, size_t size) {
       return true;
     }
   }
-  console_error(
-      "cannot find the plugin bundle: no manifest.ttl in %s%s or %s%s", folder,
-      bundle_places[0], folder, bundle_places[1]);
+  console_error("cannot find the plugin bundle: no manifest.ttl in %s%s, %s%s or %s%s",
+                folder, bundle_places[0], folder, bundle_places[1], folder,
+                bundle_places[2]);
   return false;
 }
 
