@@ -27,7 +27,15 @@
     and 4096, with patch:Set, patch:Get and time:Position events arriving
     mid-block, a control change mid-take, silence, loud notes and NaN/Inf
     samples; the audio must pass bit for bit and a session log must be
-    left behind;
+    left behind. Three hosts: one with no worker (the plugin logs from a
+    thread of its own), one whose worker runs work() on a thread of the
+    host's (LV2 Worker extension, worker.h: "the host MAY call this method
+    from any non-real-time thread"), and one that runs work() at once
+    inside schedule_work, as a freewheeling host may (worker.h: "the
+    worker may be executed immediately"). That host's work() is the
+    host's own non-real-time business, so the counting pauses inside it;
+    run() around it must still be clean, nothing may deadlock, and every
+    host must leave the same log;
   - the analysis core's [RT] calls directly (core/plumb.h);
   - a loud note followed by denormal-range silence: bit-exact output, and
     the run() time per block printed (the specification bounds run() by
@@ -53,6 +61,7 @@
 #include <lv2/patch/patch.h>
 #include <lv2/time/time.h>
 #include <lv2/urid/urid.h>
+#include <lv2/worker/worker.h>
 
 #include <dirent.h>
 #include <dlfcn.h>
@@ -63,6 +72,7 @@
 #include <semaphore.h>
 #include <stdalign.h>
 #include <stdarg.h>
+#include <stdatomic.h>
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
@@ -460,8 +470,8 @@ typedef struct {
   float sample_rate_hz;
   int32_t min_block_frames, max_block_frames, nominal_block_frames;
   LV2_Options_Option options[5];
-  LV2_Feature features[5];
-  const LV2_Feature *list[6];
+  LV2_Feature features[6];
+  const LV2_Feature *list[7];
 } host_features;
 
 static void set_option(LV2_Options_Option *option, LV2_URID key, LV2_URID type,
@@ -498,6 +508,201 @@ static void build_features(host_features *f, const host_uris *uris,
     f->list[i] = &f->features[i];
   }
   f->list[5] = NULL;
+}
+
+/* work:schedule, for a host that has a worker. */
+static void add_schedule_feature(host_features *f,
+                                 LV2_Worker_Schedule *schedule) {
+  f->features[5] = (LV2_Feature){LV2_WORKER__schedule, schedule};
+  f->list[5] = &f->features[5];
+  f->list[6] = NULL;
+}
+
+/* ================================================== the host's worker */
+
+/* The hosts the plugin is driven in (see the top comment). */
+typedef enum {
+  HOST_NO_WORKER,
+  HOST_WORKER_THREAD,
+  HOST_SYNCHRONOUS_WORKER,
+  HOST_KINDS
+} host_kind;
+
+static const char *const host_kind_names[HOST_KINDS] = {
+    "no-worker", "worker-thread", "synchronous-worker"};
+
+#define WORK_SLOTS 64
+#define WORK_MESSAGE_MAX_BYTES 64
+
+typedef struct {
+  uint32_t size;
+  uint8_t data[WORK_MESSAGE_MAX_BYTES];
+} work_message;
+
+/* One producer and one consumer, lock-free: the producer may be run(),
+   which must not see the host take a lock either. */
+typedef struct {
+  work_message slots[WORK_SLOTS];
+  atomic_size_t written;
+  atomic_size_t taken;
+} message_ring;
+
+static bool ring_push(message_ring *ring, uint32_t size, const void *data) {
+  size_t written = atomic_load_explicit(&ring->written, memory_order_relaxed);
+  size_t taken = atomic_load_explicit(&ring->taken, memory_order_acquire);
+  if (written - taken == WORK_SLOTS || size > WORK_MESSAGE_MAX_BYTES) {
+    return false;
+  }
+  work_message *slot = &ring->slots[written % WORK_SLOTS];
+  slot->size = size;
+  memcpy(slot->data, data, size);
+  atomic_store_explicit(&ring->written, written + 1, memory_order_release);
+  return true;
+}
+
+static bool ring_pop(message_ring *ring, work_message *message) {
+  size_t taken = atomic_load_explicit(&ring->taken, memory_order_relaxed);
+  size_t written = atomic_load_explicit(&ring->written, memory_order_acquire);
+  if (taken == written) {
+    return false;
+  }
+  *message = ring->slots[taken % WORK_SLOTS];
+  atomic_store_explicit(&ring->taken, taken + 1, memory_order_release);
+  return true;
+}
+
+typedef struct {
+  host_kind kind;
+  const LV2_Worker_Interface *interface;
+  LV2_Handle instance; /* set once instantiated */
+  LV2_Worker_Schedule schedule;
+  message_ring requests;  /* run() to the worker thread */
+  message_ring responses; /* work() to the end of the next run() */
+  pthread_t thread;
+  bool thread_started;
+  atomic_bool stop;
+  pthread_t run_thread;             /* the test's thread, which calls run() */
+  atomic_ulong schedules;           /* schedule_work() calls taken */
+  atomic_ulong work_calls;          /* work() calls made */
+  atomic_ulong work_on_run_thread;  /* of those, made on run()'s thread */
+  atomic_ulong work_refused;        /* work() did not take the message */
+} host_worker;
+
+static LV2_Worker_Status respond(LV2_Worker_Respond_Handle handle,
+                                 uint32_t size, const void *data) {
+  host_worker *worker = handle;
+  return ring_push(&worker->responses, size, data) ? LV2_WORKER_SUCCESS
+                                                   : LV2_WORKER_ERR_NO_SPACE;
+}
+
+static void call_work(host_worker *worker, uint32_t size, const void *data) {
+  LV2_Worker_Status status =
+      worker->interface->work(worker->instance, respond, worker, size, data);
+  atomic_fetch_add(&worker->work_calls, 1ul);
+  if (pthread_equal(pthread_self(), worker->run_thread)) {
+    atomic_fetch_add(&worker->work_on_run_thread, 1ul);
+  }
+  if (status != LV2_WORKER_SUCCESS) {
+    atomic_fetch_add(&worker->work_refused, 1ul);
+  }
+}
+
+/* The live host: queue the message for the worker thread. */
+static LV2_Worker_Status schedule_on_thread(LV2_Worker_Schedule_Handle handle,
+                                            uint32_t size, const void *data) {
+  host_worker *worker = handle;
+  if (!ring_push(&worker->requests, size, data)) {
+    return LV2_WORKER_ERR_NO_SPACE;
+  }
+  atomic_fetch_add(&worker->schedules, 1ul); /* lock-free: no call counted */
+  return LV2_WORKER_SUCCESS;
+}
+
+/* The freewheeling host: work() at once, inside run(). What work() does
+   is the host's non-real-time business, so it is not counted. */
+static LV2_Worker_Status schedule_at_once(LV2_Worker_Schedule_Handle handle,
+                                          uint32_t size, const void *data) {
+  bool counting = inside_run;
+  inside_run = false;
+  atomic_fetch_add(&((host_worker *)handle)->schedules, 1ul);
+  call_work(handle, size, data);
+  inside_run = counting;
+  return LV2_WORKER_SUCCESS;
+}
+
+/* Polls, as a host's worker may; a message scheduled before `stop` is
+   still handed to work() (worker.h: the host "MUST guarantee that it
+   will be eventually passed to work()"). */
+static void *worker_main(void *argument) {
+  host_worker *worker = argument;
+  const struct timespec pause = {0, 200000L};
+  work_message message;
+  for (;;) {
+    bool stopping = atomic_load(&worker->stop);
+    bool any = false;
+    while (ring_pop(&worker->requests, &message)) {
+      call_work(worker, message.size, message.data);
+      any = true;
+    }
+    if (stopping && !any) {
+      return NULL;
+    }
+    nanosleep(&pause, NULL);
+  }
+}
+
+static void worker_init(host_worker *worker, host_kind kind,
+                        const LV2_Worker_Interface *interface) {
+  memset(worker, 0, sizeof *worker);
+  worker->kind = kind;
+  worker->interface = interface;
+  worker->run_thread = pthread_self();
+  worker->schedule.handle = worker;
+  worker->schedule.schedule_work =
+      kind == HOST_SYNCHRONOUS_WORKER ? schedule_at_once : schedule_on_thread;
+  atomic_init(&worker->stop, false);
+}
+
+static bool worker_start(host_worker *worker, LV2_Handle instance) {
+  worker->instance = instance;
+  if (worker->kind != HOST_WORKER_THREAD) {
+    return true;
+  }
+  worker->thread_started =
+      pthread_create(&worker->thread, NULL, worker_main, worker) == 0;
+  return worker->thread_started;
+}
+
+/* Hands every message still queued to work(), then joins. */
+static void worker_stop(host_worker *worker) {
+  if (worker->thread_started) {
+    atomic_store(&worker->stop, true);
+    pthread_join(worker->thread, NULL);
+    worker->thread_started = false;
+  }
+}
+
+/* Until every message scheduled so far has been through work(), for at
+   most 2 s (common practice, no source). */
+static void worker_wait_idle(host_worker *worker) {
+  const struct timespec pause = {0, 1000000L};
+  for (int tries = 0; tries < 2000 && atomic_load(&worker->work_calls) <
+                                          atomic_load(&worker->schedules);
+       ++tries) {
+    nanosleep(&pause, NULL);
+  }
+}
+
+/* After run(), in its context: the responses, then end_run (worker.h). */
+static void worker_end_of_run(host_worker *worker) {
+  work_message message;
+  while (ring_pop(&worker->responses, &message)) {
+    worker->interface->work_response(worker->instance, message.size,
+                                     message.data);
+  }
+  if (worker->interface->end_run) {
+    worker->interface->end_run(worker->instance);
+  }
 }
 
 /* ================================================== the takes */
@@ -609,6 +814,7 @@ typedef struct {
   size_t count;
   size_t tolerance_change_frame; /* the first block from here on: 15 cents */
   size_t gets;                   /* patch:Get events, each to be answered */
+  size_t rows_wanted;            /* the log's rows once the take is played */
 } take_plan;
 
 static void add_event(take_plan *plan, size_t frame, event_kind kind,
@@ -655,6 +861,7 @@ static void plan_take(take_plan *plan, const char *folder, const char *label,
   add_event(plan, seconds_to_frames(3.0) + 9, EVENT_SET_LABEL, 0, 0.0f);
   /* the tolerance port changes during the A4, which completes later */
   plan->tolerance_change_frame = seconds_to_frames(2.0);
+  plan->rows_wanted = TAKE_NOTES;
 }
 
 static const float custom_offsets_cents[12] = {0, -2, 4, 0, -14, 2, -10,
@@ -724,6 +931,7 @@ typedef struct {
   atom_buffer control;
   atom_buffer notify;
   LV2_Atom_Forge forge; /* writes the control sequence, outside run() */
+  host_worker worker;   /* used when the host kind has one */
 } plugin_host;
 
 typedef struct {
@@ -734,11 +942,19 @@ typedef struct {
   size_t runs_control_overflow;
   size_t notify_events;
   double *run_seconds; /* per run, when not NULL */
+  /* The host's worker, for hosts that have one. */
+  unsigned long work_calls;
+  unsigned long work_on_run_thread;
+  unsigned long work_refused;
+  /* Rows in the log after the last run(), before deactivate: written by
+     the host's worker or the plugin's thread, not by deactivate. */
+  size_t rows_before_deactivate;
 } take_result;
 
 /* The suite's shared state, made by the group setup. */
 static struct {
   const LV2_Descriptor *descriptor;
+  const LV2_Worker_Interface *worker_interface;
   void *library;
   char bundle[PATH_MAX];
   char folder[PATH_MAX];
@@ -747,7 +963,7 @@ static struct {
   size_t take_frames;
   float *denormal_take;
   size_t denormal_frames;
-  char *logs[5]; /* each block size's notes.csv, for the last test */
+  char *logs[HOST_KINDS][5]; /* each host's and block size's notes.csv */
 } suite;
 
 static size_t block_sizes[5] = {1, 7, 64, 1000, 4096};
@@ -846,6 +1062,9 @@ static void run_block(plugin_host *host, const take_plan *plan,
   double start_s = result->run_seconds ? monotonic_s() : 0.0;
   inside_run = true;
   host->descriptor->run(host->instance, (uint32_t)frames);
+  if (host->worker.kind != HOST_NO_WORKER) {
+    worker_end_of_run(&host->worker); /* audio class too: counted */
+  }
   inside_run = false;
   if (result->run_seconds) {
     result->run_seconds[result->runs] = monotonic_s() - start_s;
@@ -859,21 +1078,61 @@ static void run_block(plugin_host *host, const take_plan *plan,
   result->runs++;
 }
 
-/* A whole take through one instance: instantiate, connect, activate,
-   run block by block, deactivate, cleanup. Counts only inside run() and
-   connect_port(). Returns false when the plugin would not instantiate. */
-static bool drive_take(const float *take, size_t n, size_t block_frames,
-                       const take_plan *plan, take_result *result) {
+static char *read_log(const char *label);
+static size_t count_rows(const char *text);
+
+/* The rows of the take's log once the writer has caught up: at once for
+   a synchronous worker, after the worker thread is idle, or within 2 s
+   for the plugin's own thread (it writes every 20 ms). */
+static size_t rows_written_so_far(plugin_host *host, const char *label,
+                                  size_t wanted) {
+  worker_wait_idle(&host->worker);
+  const struct timespec pause = {0, 5000000L};
+  size_t rows = 0;
+  for (int tries = 0; tries < 400; ++tries) {
+    char *log = read_log(label);
+    rows = log ? count_rows(log) : 0;
+    free(log);
+    if (rows >= wanted || host->worker.kind != HOST_NO_WORKER) {
+      break;
+    }
+    nanosleep(&pause, NULL);
+  }
+  return rows;
+}
+
+static void copy_worker_counts(const host_worker *worker,
+                               take_result *result) {
+  result->work_calls = atomic_load(&worker->work_calls);
+  result->work_on_run_thread = atomic_load(&worker->work_on_run_thread);
+  result->work_refused = atomic_load(&worker->work_refused);
+}
+
+/* A whole take through one instance in a host of `kind`: instantiate,
+   connect, activate, run block by block, deactivate (a worker thread
+   still running), stop the worker, cleanup. Counts only inside run()
+   and connect_port(). Returns false when the plugin would not
+   instantiate. */
+static bool drive_take_in(host_kind kind, const float *take, size_t n,
+                          size_t block_frames, const take_plan *plan,
+                          take_result *result) {
   plugin_host *host = calloc(1, sizeof *host);
   host_features features;
   if (!host) {
     return false;
   }
   build_features(&features, &suite.uris, (uint32_t)block_frames);
+  worker_init(&host->worker, kind, suite.worker_interface);
+  if (kind != HOST_NO_WORKER) {
+    add_schedule_feature(&features, &host->worker.schedule);
+  }
   host->descriptor = suite.descriptor;
   host->instance = suite.descriptor->instantiate(
       suite.descriptor, SAMPLE_RATE_HZ, suite.bundle, features.list);
-  if (!host->instance) {
+  if (!host->instance || !worker_start(&host->worker, host->instance)) {
+    if (host->instance) {
+      suite.descriptor->cleanup(host->instance);
+    }
     free(host);
     return false;
   }
@@ -886,10 +1145,21 @@ static bool drive_take(const float *take, size_t n, size_t block_frames,
     size_t frames = n - begin < block_frames ? n - begin : block_frames;
     run_block(host, plan, take, begin, frames, result);
   }
+  if (plan->label) {
+    result->rows_before_deactivate =
+        rows_written_so_far(host, plan->label, plan->rows_wanted);
+  }
   suite.descriptor->deactivate(host->instance);
+  worker_stop(&host->worker);
+  copy_worker_counts(&host->worker, result);
   suite.descriptor->cleanup(host->instance);
   free(host);
   return true;
+}
+
+static bool drive_take(const float *take, size_t n, size_t block_frames,
+                       const take_plan *plan, take_result *result) {
+  return drive_take_in(HOST_NO_WORKER, take, n, block_frames, plan, result);
 }
 
 /* ================================================== the session log */
@@ -946,7 +1216,7 @@ static size_t count_rows(const char *text) {
 
 /* <folder>/<label>.notes.csv, as docs/log-format.md names it. */
 static char *read_log(const char *label) {
-  char path[PATH_MAX + 64];
+  char path[PATH_MAX + 128];
   snprintf(path, sizeof path, "%s/%s.notes.csv", suite.folder, label);
   return read_text(path);
 }
@@ -1028,35 +1298,96 @@ static void test_interposer_sees_the_plugins_calls(void **state) {
   assert_int_equal(forbidden_counts[CALL_pthread_join], 1);
 }
 
+/* docs/ports.md: with the host's work:schedule the plugin starts no
+   thread of its own (the same count as above, which sees one without). */
+static void test_no_own_thread_with_a_host_worker(void **state) {
+  (void)state;
+  host_features features;
+  build_features(&features, &suite.uris, 64);
+  host_worker worker;
+  worker_init(&worker, HOST_WORKER_THREAD, suite.worker_interface);
+  add_schedule_feature(&features, &worker.schedule);
+  counting_reset();
+  inside_run = true;
+  LV2_Handle instance = suite.descriptor->instantiate(
+      suite.descriptor, SAMPLE_RATE_HZ, suite.bundle, features.list);
+  if (instance) {
+    suite.descriptor->cleanup(instance);
+  }
+  inside_run = false;
+  assert_non_null(instance);
+  assert_true(forbidden_counts[CALL_malloc] + forbidden_counts[CALL_calloc] >=
+              1);
+  assert_int_equal(forbidden_counts[CALL_pthread_create], 0);
+  assert_int_equal(forbidden_counts[CALL_pthread_join], 0);
+}
+
 /* ================================================== tests: the plugin */
 
-static size_t block_index(size_t block_frames) {
-  for (size_t i = 0; i < 5; ++i) {
-    if (block_sizes[i] == block_frames) {
-      return i;
-    }
+/* One test for each host and block size. */
+typedef struct {
+  host_kind kind;
+  size_t block_frames;
+  size_t slot; /* in block_sizes */
+} host_case;
+
+#define HOST_CASES(kind)                                                      \
+  {kind, 1, 0}, {kind, 7, 1}, {kind, 64, 2}, {kind, 1000, 3}, {kind, 4096, 4}
+static host_case host_cases[HOST_KINDS * 5] = {
+    HOST_CASES(HOST_NO_WORKER), HOST_CASES(HOST_WORKER_THREAD),
+    HOST_CASES(HOST_SYNCHRONOUS_WORKER)};
+
+/* worker.h: work() is called "from any non-real-time thread" by a live
+   host, or "immediately", in run()'s thread, by a freewheeling one;
+   docs/ports.md: with work:schedule the log is written from the host's
+   worker, without it from the plugin's own thread, so a host without a
+   worker never sees work() called. */
+static void assert_worker_use(host_kind kind, const take_result *result) {
+  assert_int_equal(result->work_refused, 0);
+  switch (kind) {
+  case HOST_NO_WORKER:
+    assert_int_equal(result->work_calls, 0);
+    break;
+  case HOST_WORKER_THREAD:
+    assert_true(result->work_calls >= 1);
+    assert_int_equal(result->work_on_run_thread, 0);
+    break;
+  default:
+    assert_true(result->work_calls >= 1);
+    assert_int_equal(result->work_on_run_thread, result->work_calls);
+    break;
   }
-  return 0;
 }
 
 static void test_plugin_run_is_real_time_safe(void **state) {
-  size_t block_frames = *(const size_t *)*state;
-  char label[32];
-  snprintf(label, sizeof label, "realtime-block-%zu", block_frames);
+  const host_case *c = *state;
+  char label[64];
+  snprintf(label, sizeof label, "realtime-%s-block-%zu",
+           host_kind_names[c->kind], c->block_frames);
   take_plan plan;
-  plan_take(&plan, suite.folder, label, block_frames);
+  plan_take(&plan, suite.folder, label, c->block_frames);
   take_result result;
   memset(&result, 0, sizeof result);
-  assert_true(drive_take(suite.take, suite.take_frames, block_frames, &plan,
-                         &result));
-  char where[64];
-  snprintf(where, sizeof where, "run() at %zu-frame blocks", block_frames);
-  size_t runs = (suite.take_frames + block_frames - 1) / block_frames;
+  /* A deadlock with a synchronous worker would hang here: the alarm ends
+     the process instead, which counts as a failure (tests/run.sh). */
+  alarm(120);
+  bool driven = drive_take_in(c->kind, suite.take, suite.take_frames,
+                              c->block_frames, &plan, &result);
+  alarm(0);
+  assert_true(driven);
+  char where[96];
+  snprintf(where, sizeof where, "run() at %zu-frame blocks, host: %s",
+           c->block_frames, host_kind_names[c->kind]);
+  size_t runs = (suite.take_frames + c->block_frames - 1) / c->block_frames;
   assert_take_clean(&result, runs, where);
+  assert_worker_use(c->kind, &result);
   /* docs/ports.md: a patch:Get of ours is answered on notify, and every
      note completed during run() goes out there as a note object (the take
      ends in silence, so all of them complete before deactivate) */
   assert_int_equal(result.notify_events, plan.gets + TAKE_NOTES);
+  /* docs/log-format.md: rows are written as the notes complete, by the
+     worker or the plugin's thread, so all are there before deactivate */
+  assert_int_equal(result.rows_before_deactivate, TAKE_NOTES);
   /* docs/log-format.md: deactivate flushes and closes the log; the file
      is named after the label, has the documented header and one row a
      note of the take (the truth is take_notes[]) */
@@ -1068,31 +1399,33 @@ static void test_plugin_run_is_real_time_safe(void **state) {
   }
   assert_true(header_is_documented(log));
   assert_int_equal(count_rows(log), TAKE_NOTES);
-  size_t slot = block_index(block_frames);
-  free(suite.logs[slot]);
-  suite.logs[slot] = log;
+  free(suite.logs[c->kind][c->slot]);
+  suite.logs[c->kind][c->slot] = log;
 }
 
 /* core/plumb.h: results do not depend on how the audio is split, and the
    plugin feeds the analysis up to each event's frame (docs/ports.md), so
    with the same events at the same take frames every block size must
-   give the same log, byte for byte. Reads the logs the tests above left. */
+   give the same log, byte for byte; and who writes it (the host's
+   worker, at once or on its thread, or the plugin's own thread) must not
+   change a byte either. Reads the logs the tests above left. */
 static void test_plugin_logs_equal_for_every_block_size(void **state) {
   (void)state;
-  const char *reference = suite.logs[4];
-  for (size_t i = 0; i < 5; ++i) {
-    if (!suite.logs[i]) {
-      fprintf(stderr, "no log from the %zu-frame test (it failed)\n",
-              block_sizes[i]);
+  const char *reference = suite.logs[HOST_NO_WORKER][4];
+  for (int kind = 0; kind < HOST_KINDS; ++kind) {
+    for (size_t i = 0; i < 5; ++i) {
+      const char *log = suite.logs[kind][i];
+      if (!log) {
+        fprintf(stderr, "no log from the %zu-frame test, host %s (it failed)\n",
+                block_sizes[i], host_kind_names[kind]);
+      }
+      assert_non_null(log);
+      if (strcmp(log, reference) != 0) {
+        fprintf(stderr, "log at %zu-frame blocks, host %s:\n%s\nreference:\n%s\n",
+                block_sizes[i], host_kind_names[kind], log, reference);
+      }
+      assert_string_equal(log, reference);
     }
-    assert_non_null(suite.logs[i]);
-  }
-  for (size_t i = 0; i < 4; ++i) {
-    if (strcmp(suite.logs[i], reference) != 0) {
-      fprintf(stderr, "log at %zu-frame blocks:\n%s\nlog at 4096:\n%s\n",
-              block_sizes[i], suite.logs[i], reference);
-    }
-    assert_string_equal(suite.logs[i], reference);
   }
 }
 
@@ -1285,6 +1618,14 @@ static int load_plugin(void) {
     fprintf(stderr, "%s has no descriptor for %s\n", binary, PLUGIN_URI);
     return -1;
   }
+  /* ttl/plumb.ttl declares lv2:extensionData work:interface */
+  suite.worker_interface =
+      suite.descriptor->extension_data(LV2_WORKER__interface);
+  if (!suite.worker_interface || !suite.worker_interface->work ||
+      !suite.worker_interface->work_response) {
+    fprintf(stderr, "%s has no work:interface\n", binary);
+    return -1;
+  }
   return 0;
 }
 
@@ -1327,8 +1668,10 @@ static void remove_folder(const char *folder) {
 
 static int teardown_suite(void **state) {
   (void)state;
-  for (size_t i = 0; i < 5; ++i) {
-    free(suite.logs[i]);
+  for (int kind = 0; kind < HOST_KINDS; ++kind) {
+    for (size_t i = 0; i < 5; ++i) {
+      free(suite.logs[kind][i]);
+    }
   }
   free(suite.take);
   free(suite.denormal_take);
@@ -1346,15 +1689,24 @@ static int teardown_suite(void **state) {
   { what " at " #i "-frame blocks", test, NULL, NULL, &block_sizes[BLOCK_##i] }
 enum { BLOCK_1, BLOCK_7, BLOCK_64, BLOCK_1000, BLOCK_4096 };
 
+/* The plugin in one host at every block size. */
+#define ONE_HOST_CASE(kind, what, i, size)                                    \
+  {"plugin run() at " #size "-frame blocks, host with " what,                 \
+   test_plugin_run_is_real_time_safe, NULL, NULL,                             \
+   &host_cases[(kind) * 5 + (i)]}
+#define PER_HOST(kind, what)                                                  \
+  ONE_HOST_CASE(kind, what, 0, 1), ONE_HOST_CASE(kind, what, 1, 7),           \
+      ONE_HOST_CASE(kind, what, 2, 64), ONE_HOST_CASE(kind, what, 3, 1000),   \
+      ONE_HOST_CASE(kind, what, 4, 4096)
+
 int main(void) {
   const struct CMUnitTest tests[] = {
       cmocka_unit_test(test_interposer_counts_direct_calls),
       cmocka_unit_test(test_interposer_sees_the_plugins_calls),
-      PER_BLOCK(test_plugin_run_is_real_time_safe, "plugin run()", 1),
-      PER_BLOCK(test_plugin_run_is_real_time_safe, "plugin run()", 7),
-      PER_BLOCK(test_plugin_run_is_real_time_safe, "plugin run()", 64),
-      PER_BLOCK(test_plugin_run_is_real_time_safe, "plugin run()", 1000),
-      PER_BLOCK(test_plugin_run_is_real_time_safe, "plugin run()", 4096),
+      cmocka_unit_test(test_no_own_thread_with_a_host_worker),
+      PER_HOST(HOST_NO_WORKER, "no worker"),
+      PER_HOST(HOST_WORKER_THREAD, "a worker thread"),
+      PER_HOST(HOST_SYNCHRONOUS_WORKER, "a synchronous worker"),
       cmocka_unit_test(test_plugin_logs_equal_for_every_block_size),
       PER_BLOCK(test_core_calls_are_real_time_safe, "core [RT] calls", 1),
       PER_BLOCK(test_core_calls_are_real_time_safe, "core [RT] calls", 7),

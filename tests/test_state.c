@@ -8,7 +8,8 @@
   makes paths relative to a "session" folder, restores them into a fresh
   instance and checks that its take is logged where and as the restored
   values say. A host's makePath must only ever be called from a thread
-  of the plugin's own, never from instantiate() or run().
+  of the plugin's own, never from instantiate() or run(); with a host
+  that has a worker (work:schedule), only from that worker's thread.
 */
 #include "urid_table.h"
 #include "../plugin/lv2/ports.h"
@@ -20,6 +21,7 @@
 #include <lv2/patch/patch.h>
 #include <lv2/state/state.h>
 #include <lv2/urid/urid.h>
+#include <lv2/worker/worker.h>
 
 #include <dirent.h>
 #include <dlfcn.h>
@@ -27,6 +29,7 @@
 #include <limits.h>
 #include <pthread.h>
 #include <stdarg.h>
+#include <stdatomic.h>
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
@@ -34,6 +37,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <time.h>
 #include <unistd.h>
 
 #include <setjmp.h>
@@ -182,19 +186,84 @@ static int make_calls_now(void) {
   return calls;
 }
 
-/* The features a host gives; with_make_path adds state:makePath. */
+/* ------------------------------------------------ work:schedule */
+
+/* A host's worker: one thread that hands each scheduled message to the
+   plugin's work() (LV2 Worker extension). One message waits at a time
+   (the plugin schedules no more); run() only stores it, lock-free. */
+static struct {
+  const LV2_Worker_Interface *interface;
+  LV2_Handle instance;
+  pthread_t thread;
+  atomic_bool stop;
+  atomic_bool waiting; /* a message is there */
+  uint32_t size;
+  uint8_t message[64];
+  atomic_ulong scheduled, worked;
+} worker;
+
+static LV2_Worker_Status no_response(LV2_Worker_Respond_Handle handle,
+                                     uint32_t size, const void *data) {
+  (void)handle;
+  (void)size;
+  (void)data;
+  return LV2_WORKER_ERR_NO_SPACE; /* the plugin sends none */
+}
+
+static LV2_Worker_Status schedule_work(LV2_Worker_Schedule_Handle handle,
+                                       uint32_t size, const void *data) {
+  (void)handle;
+  if (atomic_load(&worker.waiting) || size > sizeof worker.message) {
+    return LV2_WORKER_ERR_NO_SPACE;
+  }
+  memcpy(worker.message, data, size);
+  worker.size = size;
+  atomic_fetch_add(&worker.scheduled, 1ul);
+  atomic_store(&worker.waiting, true);
+  return LV2_WORKER_SUCCESS;
+}
+
+static void *worker_main(void *argument) {
+  (void)argument;
+  const struct timespec pause = {0, 500000L};
+  while (!atomic_load(&worker.stop) || atomic_load(&worker.waiting)) {
+    if (atomic_load(&worker.waiting)) {
+      uint8_t message[sizeof worker.message];
+      uint32_t size = worker.size;
+      memcpy(message, worker.message, size);
+      atomic_store(&worker.waiting, false);
+      worker.interface->work(worker.instance, no_response, NULL, size,
+                             message);
+      atomic_fetch_add(&worker.worked, 1ul);
+    }
+    nanosleep(&pause, NULL);
+  }
+  return NULL;
+}
+
+static LV2_Worker_Schedule schedule_feature = {NULL, schedule_work};
+
+/* The features a host gives; with_make_path adds state:makePath,
+   with_worker work:schedule. */
 typedef struct {
-  LV2_Feature features[4];
-  const LV2_Feature *list[5];
+  LV2_Feature features[5];
+  const LV2_Feature *list[6];
 } host_features;
 
 static const LV2_Feature *const *build_features(host_features *f,
-                                                bool with_make_path) {
-  f->features[0] = (LV2_Feature){LV2_URID__map, &map};
-  f->features[1] = (LV2_Feature){LV2_URID__unmap, &unmap};
-  f->features[2] = (LV2_Feature){LV2_LOG__log, &host_log};
-  f->features[3] = (LV2_Feature){LV2_STATE__makePath, &make_path_feature};
-  int count = with_make_path ? 4 : 3;
+                                                bool with_make_path,
+                                                bool with_worker) {
+  int count = 0;
+  f->features[count++] = (LV2_Feature){LV2_URID__map, &map};
+  f->features[count++] = (LV2_Feature){LV2_URID__unmap, &unmap};
+  f->features[count++] = (LV2_Feature){LV2_LOG__log, &host_log};
+  if (with_make_path) {
+    f->features[count++] =
+        (LV2_Feature){LV2_STATE__makePath, &make_path_feature};
+  }
+  if (with_worker) {
+    f->features[count++] = (LV2_Feature){LV2_WORKER__schedule, &schedule_feature};
+  }
   for (int i = 0; i < count; ++i) {
     f->list[i] = &f->features[i];
   }
@@ -299,12 +368,14 @@ static void set_control_defaults(float controls[PORT_COUNT], bool logging) {
   controls[PORT_LOGGING] = logging ? 1.0f : 0.0f;
 }
 
-static plugin_host *open_host(bool with_make_path, bool logging) {
+static plugin_host *open_host_with(bool with_make_path, bool with_worker,
+                                   bool logging) {
   plugin_host *host = calloc(1, sizeof *host);
   assert_non_null(host);
   host_features f;
   host->instance = suite.descriptor->instantiate(
-      suite.descriptor, SAMPLE_RATE_HZ, "", build_features(&f, with_make_path));
+      suite.descriptor, SAMPLE_RATE_HZ, "",
+      build_features(&f, with_make_path, with_worker));
   assert_non_null(host->instance);
   set_control_defaults(host->controls, logging);
   const LV2_Descriptor *d = suite.descriptor;
@@ -316,6 +387,10 @@ static plugin_host *open_host(bool with_make_path, bool logging) {
     d->connect_port(host->instance, port, &host->controls[port]);
   }
   return host;
+}
+
+static plugin_host *open_host(bool with_make_path, bool logging) {
+  return open_host_with(with_make_path, false, logging);
 }
 
 static void close_host(plugin_host *host) {
@@ -587,8 +662,51 @@ static void test_make_path(void **state) {
   free(made);
 }
 
+/* With a host worker the plugin's log is written from work() (docs/ports.md,
+   "Who writes the session log"), so makePath is called on the host's
+   worker thread, and only there. The host lets its worker finish what
+   run() scheduled before it deactivates, as a live host has time to. */
+static void test_make_path_from_the_hosts_worker(void **state) {
+  (void)state;
+  worker.interface = suite.descriptor->extension_data(LV2_WORKER__interface);
+  assert_non_null(worker.interface);
+  plugin_host *host = open_host_with(true, true, true);
+  assert_int_equal(make_calls_now(), 0); /* never in instantiate */
+  worker.instance = host->instance;
+  atomic_store(&worker.stop, false);
+  assert_int_equal(pthread_create(&worker.thread, NULL, worker_main, NULL), 0);
+  suite.descriptor->activate(host->instance);
+  for (int block = 0; block < BLOCKS; ++block) {
+    LV2_Atom_Forge forge;
+    LV2_Atom_Forge_Frame sequence;
+    begin_control(host, &forge, &sequence);
+    lv2_atom_forge_pop(&forge, &sequence);
+    memset(host->in, 0, sizeof host->in);
+    run_block(host);
+  }
+  const struct timespec pause = {0, 1000000L};
+  for (int tries = 0; tries < 2000 && atomic_load(&worker.worked) <
+                                          atomic_load(&worker.scheduled);
+       ++tries) {
+    nanosleep(&pause, NULL);
+  }
+  suite.descriptor->deactivate(host->instance);
+  atomic_store(&worker.stop, true);
+  pthread_join(worker.thread, NULL);
+  close_host(host);
+  assert_true(atomic_load(&worker.worked) >= 1);
+  int calls = make_calls_now();
+  assert_int_equal(calls, 1); /* docs/ports.md: once per instance */
+  assert_true(pthread_equal(make_threads[0], worker.thread));
+  char *made = joined(dirs.session, "plumb-logs");
+  assert_int_equal(count_ending(made, ".notes.csv"), 1);
+  assert_int_equal(count_ending(made, ".run.json"), 1);
+  assert_int_equal(count_ending(dirs.env, ".notes.csv"), 0);
+  free(made);
+}
+
 /* Control: without makePath the same take goes to $PLUMB_LOG_DIR, so
-   the test above can tell the two apart. */
+   the tests above can tell the two apart. */
 static void test_without_make_path(void **state) {
   (void)state;
   plugin_host *host = open_host(false, true);
@@ -660,6 +778,8 @@ int main(void) {
       cmocka_unit_test_setup_teardown(test_missing_and_wrong_types, make_dirs,
                                       remove_dirs),
       cmocka_unit_test_setup_teardown(test_make_path, make_dirs, remove_dirs),
+      cmocka_unit_test_setup_teardown(test_make_path_from_the_hosts_worker,
+                                      make_dirs, remove_dirs),
       cmocka_unit_test_setup_teardown(test_without_make_path, make_dirs,
                                       remove_dirs),
   };

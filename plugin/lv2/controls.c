@@ -21,6 +21,12 @@
 #define MIN_NOTE_MAX_MS 1000.0
 #define MIN_NOTE_DEFAULT_MS 80.0
 #define CENTS_SHOWN_MAX 50.0
+/* The shown ranges of the newer last-note ports, as ttl/plumb.ttl
+   declares them; a reading beyond one shows at its end. */
+#define HNR_SHOWN_MIN_DB -20.0
+#define HNR_SHOWN_MAX_DB 80.0
+#define ODD_EVEN_SHOWN_MAX_DB 40.0
+#define ATTACK_SHOWN_MAX_MS 2000.0
 #define VERDICT_NONE -1.0f
 
 void controls_default(take_settings *settings, bool *logging) {
@@ -131,6 +137,27 @@ static void write_live(float *const ports[PORT_COUNT], const plumb_live *live) {
   put(ports, PORT_CONFIDENCE, clamp(finite_or(live->confidence, 0.0), 0, 1));
 }
 
+/* A last-note reading for its port: 0 when there is no note yet or the
+   reading is NaN (docs/ports.md), else held within the declared range
+   (an infinite one shows at its end). */
+static double last_reading(bool has_last, double value, double low,
+                           double high) {
+  return has_last && !isnan(value) ? clamp(value, low, high) : 0.0;
+}
+
+static void write_last_timbre(float *const ports[PORT_COUNT],
+                              const plumb_counts *counts) {
+  const plumb_note *last = &counts->last_note;
+  bool has_last = counts->has_last;
+  put(ports, PORT_LAST_HNR,
+      last_reading(has_last, last->hnr_db, HNR_SHOWN_MIN_DB, HNR_SHOWN_MAX_DB));
+  put(ports, PORT_LAST_ODD_EVEN,
+      last_reading(has_last, last->odd_even_db, -ODD_EVEN_SHOWN_MAX_DB,
+                   ODD_EVEN_SHOWN_MAX_DB));
+  put(ports, PORT_LAST_ATTACK,
+      last_reading(has_last, last->attack_ms, 0.0, ATTACK_SHOWN_MAX_MS));
+}
+
 static void write_last_note(float *const ports[PORT_COUNT],
                             const plumb_counts *counts) {
   const plumb_note *last = &counts->last_note;
@@ -146,6 +173,7 @@ void controls_write(float *const ports[PORT_COUNT],
                     const control_readings *readings) {
   write_live(ports, &readings->live);
   write_last_note(ports, &readings->counts);
+  write_last_timbre(ports, &readings->counts);
   put(ports, PORT_NOTES, readings->counts.notes);
   put(ports, PORT_FLAGGED, readings->counts.flagged);
   put(ports, PORT_LOG_OK, readings->log_ok ? 1.0 : 0.0);

@@ -1,5 +1,5 @@
 /*
-  plumb LV2: the session log writer thread (see log_writer.h).
+  plumb LV2: the session log writer (see log_writer.h).
 */
 #include "log_writer.h"
 
@@ -10,6 +10,7 @@
 #include "run_json.h"
 
 #include <errno.h>
+#include <math.h>
 #include <pthread.h>
 #include <stdatomic.h>
 #include <stdint.h>
@@ -17,8 +18,6 @@
 #include <string.h>
 #include <sys/stat.h>
 #include <time.h>
-
-#define POLL_MS 20L /* how often the thread looks for work */
 
 struct log_writer {
   /* Fixed at creation. */
@@ -28,7 +27,6 @@ struct log_writer {
   char default_folder[PLUMB_LV2_FOLDER_MAX]; /* "" when none was found */
   const LV2_State_Make_Path *make_path;      /* NULL when the host has none */
   const LV2_State_Free_Path *free_path;
-  pthread_t thread;
 
   /* From the audio thread: one request slot and plain atomics. */
   atomic_bool slot_full;
@@ -44,16 +42,21 @@ struct log_writer {
 
   /* Take control from activate/deactivate/cleanup. take_active and
      popping form a two-flag handshake (sequentially consistent), so once
-     deactivate has cleared take_active and then seen popping clear, the
-     thread does not touch the core again until the next take. */
+     deactivate has cleared take_active and then seen popping clear, no
+     step touches the core again until the next take, even one that
+     deactivate could not wait for. */
   atomic_bool take_active;
   atomic_bool popping;
   atomic_uint take_number;
-  atomic_uint finish_requested;
-  atomic_uint finish_done;
-  atomic_bool quit;
+  atomic_bool close_wanted; /* a take ended while a step held the lock */
+  atomic_uint steps_begun;  /* steps so far, counted as they start */
+  atomic_uint steps_ended;  /* ... and as they end */
 
-  /* The thread's own. */
+  /* One step at a time, whoever calls it (the host's worker, the own
+     thread, deactivate, cleanup). run() never takes it. */
+  pthread_mutex_t lock;
+
+  /* Under the lock. */
   log_request current; /* the latest request taken from the slot */
   log_file file;       /* file.csv != NULL while a take is open */
   run_record record;
@@ -62,7 +65,6 @@ struct log_writer {
   bool session_asked;                        /* make_path has been called */
   bool target_failed; /* opening failed; retried for a new target/take */
   unsigned take_seen;
-  unsigned finish_handled;
 };
 
 /* ------------------------------------------------------------ helpers */
@@ -86,7 +88,7 @@ static const char *error_text(int error, char *buffer, size_t size) {
   return buffer;
 }
 
-/* One line to the host's log (or stderr); the thread's only voice. */
+/* One line to the host's log (or stderr); the writer's only voice. */
 static void report_error(log_writer *writer, const char *what,
                          const char *where, int error) {
   char reason[128];
@@ -128,7 +130,7 @@ static void write_record(log_writer *writer) {
   }
 }
 
-/* The host's folder inside the session, asked for once, on this thread. */
+/* The host's folder inside the session, asked for once, in a step. */
 static const char *session_folder(log_writer *writer) {
   if (writer->make_path && !writer->session_asked) {
     writer->session_asked = true;
@@ -230,13 +232,9 @@ static bool same_target(log_writer *writer, const plumb_lv2_parameters *a,
          same_folder(folder_of(writer, a), folder_of(writer, b));
 }
 
-/* Takes a request from the slot. A new folder or label ends the open
-   file and starts another; new settings are only noted in run.json. */
-static void take_request(log_writer *writer) {
-  if (!atomic_load_explicit(&writer->slot_full, memory_order_acquire)) {
-    return;
-  }
-  const log_request *incoming = &writer->slot;
+/* A new folder or label ends the open file and starts another; new
+   settings are only noted in run.json. */
+static void apply_request(log_writer *writer, const log_request *incoming) {
   if (!same_target(writer, &incoming->parameters,
                    &writer->current.parameters)) {
     close_take(writer);
@@ -246,7 +244,14 @@ static void take_request(log_writer *writer) {
     writer->record.settings_changed = true;
   }
   writer->current = *incoming;
-  atomic_store_explicit(&writer->slot_full, false, memory_order_release);
+}
+
+/* Takes the request run() left in the slot, if any. */
+static void take_request(log_writer *writer) {
+  if (atomic_load_explicit(&writer->slot_full, memory_order_acquire)) {
+    apply_request(writer, &writer->slot);
+    atomic_store_explicit(&writer->slot_full, false, memory_order_release);
+  }
 }
 
 /* ------------------------------------------------------------ notes */
@@ -290,7 +295,7 @@ static void drain_notes(log_writer *writer) {
   }
 }
 
-/* ------------------------------------------------------------ the thread */
+/* ------------------------------------------------------------ a step */
 
 static void start_new_take_if_any(log_writer *writer) {
   unsigned take = atomic_load(&writer->take_number);
@@ -300,8 +305,12 @@ static void start_new_take_if_any(log_writer *writer) {
   }
 }
 
-static void writer_step(log_writer *writer) {
-  unsigned finish = atomic_load(&writer->finish_requested);
+/* Under the lock. */
+static void step_locked(log_writer *writer) {
+  atomic_fetch_add(&writer->steps_begun, 1u);
+  if (atomic_exchange(&writer->close_wanted, false)) {
+    close_take(writer);
+  }
   if (atomic_load(&writer->take_active)) {
     start_new_take_if_any(writer);
     take_request(writer);
@@ -309,24 +318,13 @@ static void writer_step(log_writer *writer) {
     drain_notes(writer);
   }
   report_complaints(writer);
-  if (finish != writer->finish_handled) {
-    close_take(writer);
-    writer->finish_handled = finish;
-    atomic_store(&writer->finish_done, finish);
-  }
+  atomic_fetch_add(&writer->steps_ended, 1u);
 }
 
-static void *writer_main(void *argument) {
-  log_writer *writer = argument;
-  while (!atomic_load(&writer->quit)) {
-    writer_step(writer);
-    sleep_us(POLL_MS * 1000L);
-  }
-  /* cleanup without deactivate: the audio thread has stopped, so what is
-     queued can still be written before the files are closed. */
-  writer_step(writer);
-  close_take(writer);
-  return NULL;
+void log_writer_step(log_writer *writer) {
+  pthread_mutex_lock(&writer->lock);
+  step_locked(writer);
+  pthread_mutex_unlock(&writer->lock);
 }
 
 /* ------------------------------------------------------- [RT] interface */
@@ -388,23 +386,28 @@ log_writer *log_writer_new(const log_writer_config *config, int *error) {
   controls_default(&writer->current.settings, &(bool){true});
   atomic_init(&writer->logging, true);
   atomic_init(&writer->log_ok, true);
-  int started = pthread_create(&writer->thread, NULL, writer_main, writer);
-  if (started != 0) {
+  int failed = pthread_mutex_init(&writer->lock, NULL);
+  if (failed != 0) {
     free(writer);
     if (error) {
-      *error = started;
+      *error = failed;
     }
     return NULL;
   }
   return writer;
 }
 
+/* cleanup without deactivate: the audio thread has stopped, so what is
+   queued can still be written before the files are closed. */
 void log_writer_free(log_writer *writer) {
   if (!writer) {
     return;
   }
-  atomic_store(&writer->quit, true);
-  pthread_join(writer->thread, NULL);
+  pthread_mutex_lock(&writer->lock);
+  step_locked(writer);
+  close_take(writer);
+  pthread_mutex_unlock(&writer->lock);
+  pthread_mutex_destroy(&writer->lock);
   free(writer);
 }
 
@@ -417,7 +420,21 @@ void log_writer_begin_take(log_writer *writer) {
   atomic_store(&writer->take_active, true);
 }
 
-/* Sleep-polls until done() or the deadline; true if done in time. */
+/* The lock within timeout_s; false when a step held it all that time. */
+static bool lock_within(log_writer *writer, double timeout_s) {
+  struct timespec deadline;
+  clock_gettime(CLOCK_REALTIME, &deadline);
+  double whole_s = floor(timeout_s);
+  deadline.tv_sec += (time_t)whole_s;
+  deadline.tv_nsec += (long)((timeout_s - whole_s) * 1e9);
+  if (deadline.tv_nsec >= 1000000000L) {
+    deadline.tv_sec += 1;
+    deadline.tv_nsec -= 1000000000L;
+  }
+  return pthread_mutex_timedlock(&writer->lock, &deadline) == 0;
+}
+
+/* Sleep-polls until the slot is free, then offers; false at the deadline. */
 static bool offer_until(log_writer *writer, const log_request *pending,
                         double deadline_s) {
   while (!log_writer_offer(writer, pending)) {
@@ -429,31 +446,58 @@ static bool offer_until(log_writer *writer, const log_request *pending,
   return true;
 }
 
-static bool wait_for_finish(log_writer *writer, unsigned ticket,
-                            double deadline_s) {
-  while (atomic_load(&writer->finish_done) != ticket) {
-    if (monotonic_s() > deadline_s) {
-      return false;
-    }
-    sleep_us(2000);
-  }
-  return true;
-}
-
-bool log_writer_end_take(log_writer *writer, const log_request *pending,
-                         bool ran, double timeout_s) {
-  double deadline_s = monotonic_s() + timeout_s;
+/* With a thread of the plugin's own, that thread, not the host's thread
+   in deactivate, makes a step after everything is handed over, so the
+   host's makePath is only ever called from the plugin's own thread. It
+   is due within one poll. Returns whether `pending` was delivered. */
+static bool step_on_own_thread(log_writer *writer, const log_request *pending,
+                               bool ran, double deadline_s) {
   bool delivered = !pending || offer_until(writer, pending, deadline_s);
   if (ran && delivered) {
     log_writer_mark_ready(writer);
   }
-  unsigned ticket = atomic_fetch_add(&writer->finish_requested, 1u) + 1u;
-  bool finished = wait_for_finish(writer, ticket, deadline_s);
+  unsigned begun = atomic_load(&writer->steps_begun);
+  while (atomic_load(&writer->steps_ended) < begun + 1u &&
+         monotonic_s() <= deadline_s) {
+    sleep_us(1000);
+  }
+  return delivered;
+}
+
+/* Under the lock, with run() not running: what is in the slot first, so
+   that `pending`, the newer request, is the one that stays. */
+static void deliver_locked(log_writer *writer, const log_request *pending) {
+  take_request(writer);
+  if (pending && atomic_load(&writer->take_active)) {
+    apply_request(writer, pending);
+  }
+}
+
+bool log_writer_end_take(log_writer *writer, const log_request *pending,
+                         bool ran, bool own_thread, double timeout_s) {
+  double deadline_s = monotonic_s() + timeout_s;
+  if (own_thread && step_on_own_thread(writer, pending, ran, deadline_s)) {
+    pending = NULL;
+  }
+  bool locked = lock_within(writer, fmax(0.0, deadline_s - monotonic_s()));
+  if (locked) {
+    deliver_locked(writer, pending);
+    if (ran) {
+      log_writer_mark_ready(writer);
+    }
+    step_locked(writer); /* opens the file of a take that ran, if still due */
+    close_take(writer);
+  } else {
+    atomic_store(&writer->close_wanted, true); /* for the step that is late */
+  }
   atomic_store(&writer->take_active, false);
   /* A pop in progress ends within microseconds (it only copies one note
      out of the queue), so this wait needs no deadline. */
   while (atomic_load(&writer->popping)) {
     sleep_us(50);
   }
-  return finished && delivered;
+  if (locked) {
+    pthread_mutex_unlock(&writer->lock);
+  }
+  return locked;
 }

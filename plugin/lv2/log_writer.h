@@ -1,22 +1,27 @@
 /*
-  plumb LV2: the session log writer, a thread of the plugin's own.
+  plumb LV2: the session log writer.
 
-  It needs no host worker, so it works in every host (lv2file has none).
   It is the single consumer of the core's note queue (plumb_pop_note),
   formats each note with core/note_csv.c and appends it to
   <folder>/<STEM>.notes.csv, flushing row by row, and keeps
   <STEM>.run.json beside it (see docs/log-format.md).
 
+  It has no thread of its own: something non-real-time calls
+  log_writer_step() often, either the host's worker (log_worker.h, when
+  the host offers work:schedule) or the plugin's own thread
+  (log_thread.h, when it does not). A step takes a mutex, so steps never
+  overlap, whoever calls them; run() never takes it.
+
   Talking to it from the audio thread is lock-free: run() copies a new
   request (folder, label, settings) into one preallocated slot and
   publishes it with a C11 atomic flag; counters and switches are plain
-  atomics. The thread polls every 20 ms rather than being signalled,
-  because signalling a condition variable can take a lock.
+  atomics.
 
   Threading classes, per call:
   - [RT] may be called from run(): no allocation, lock, I/O or syscall.
   - [instantiation] from instantiate/activate/deactivate/cleanup, which
     the host never runs at the same time as run().
+  - [non-RT] from any thread that may block and do file I/O.
 */
 #ifndef PLUMB_LV2_LOG_WRITER_H
 #define PLUMB_LV2_LOG_WRITER_H
@@ -41,7 +46,7 @@ typedef struct {
   LV2_Log_Logger logger; /* copied; with no host log it prints to stderr */
   double sample_rate_hz;
   /* The host's state:makePath and state:freePath, or NULL. Only the
-     writer thread calls make_path, once, when a take needs a folder and
+     writer calls make_path (in a step), once, when a take needs a folder and
      no logFolder is set (never in instantiate: a host aborts). */
   const LV2_State_Make_Path *make_path;
   const LV2_State_Free_Path *free_path;
@@ -49,14 +54,20 @@ typedef struct {
 
 typedef struct log_writer log_writer;
 
-/* [instantiation] Allocate and start the thread; it reads the default
-   folder from the environment now. NULL when memory or the thread could
-   not be had (*error, if not NULL, gets the errno). */
+/* [instantiation] Allocate; the default folder is read from the
+   environment now. NULL when memory or the mutex could not be had
+   (*error, if not NULL, gets the errno). */
 log_writer *log_writer_new(const log_writer_config *config, int *error);
 
-/* [instantiation] Stop and join the thread; an open take is closed with
-   its totals. log_writer_free(NULL) does nothing. */
+/* [instantiation] Writes what is still queued and closes an open take
+   with its totals, then frees. Whatever calls log_writer_step() must
+   have stopped. log_writer_free(NULL) does nothing. */
 void log_writer_free(log_writer *writer);
+
+/* [non-RT] Do what is due: take the latest request, open the take's
+   files once they are wanted, write a row for every completed note, log
+   the complaints run() left. Returns at once when nothing is due. */
+void log_writer_step(log_writer *writer);
 
 /* [instantiation] A take starts (activate, after plumb_reset): the file
    is opened once the first run() has delivered its events, so a folder
@@ -64,14 +75,18 @@ void log_writer_free(log_writer *writer);
 void log_writer_begin_take(log_writer *writer);
 
 /* [instantiation] The take ends (deactivate, after plumb_finish and the
-   last log_writer_publish_counts). Delivers `pending` if not NULL, then
-   waits up to timeout_s for the writer to drain the queue, flush, close
-   the CSV and rewrite run.json with totals. `ran` tells whether run()
-   was called during the take (a take that never ran leaves no file).
-   On return the writer no longer touches the core, so activate may
-   plumb_reset it. Returns false when the wait timed out. */
+   last log_writer_publish_counts). Delivers `pending` if not NULL, then,
+   on the calling thread, drains the queue, flushes, closes the CSV and
+   rewrites run.json with totals. `ran` tells whether run() was called
+   during the take (a take that never ran leaves no file). With
+   `own_thread` (log_thread.h steps the writer) that thread makes one more
+   step first, so the host's makePath stays on it. Waits at most
+   timeout_s in all; when a step elsewhere holds the writer longer, the
+   take is closed by the next step instead. On return the writer no
+   longer touches the core, so activate may plumb_reset it. Returns false
+   when the wait timed out. */
 bool log_writer_end_take(log_writer *writer, const log_request *pending,
-                         bool ran, double timeout_s);
+                         bool ran, bool own_thread, double timeout_s);
 
 /* [RT] Offer a new request. Returns false when the slot still holds the
    previous one (the writer has not taken it yet); offer again later. */
@@ -89,7 +104,7 @@ void log_writer_set_logging(log_writer *writer, bool logging);
    them (notes and flagged it counts itself, as it takes the notes). */
 void log_writer_publish_counts(log_writer *writer, const plumb_counts *counts);
 
-/* [RT] COMPLAINT_* bits (messages.h) for the writer thread to log. */
+/* [RT] COMPLAINT_* bits (messages.h) for the next step to log. */
 void log_writer_complain(log_writer *writer, unsigned complaints);
 
 /* [RT] False after the log could not be opened or written. */

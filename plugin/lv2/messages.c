@@ -187,8 +187,17 @@ static LV2_Atom_Forge_Ref forge_value(const plumb_uris *uris, LV2_URID key,
   for (int degree = 0; degree < 12; ++degree) {
     offsets_cents[degree] = (float)parameters->custom_offsets_cents[degree];
   }
-  return lv2_atom_forge_vector(forge, sizeof(float), uris->atom_Float, 12,
-                               offsets_cents);
+  /* Not lv2_atom_forge_vector(): it reports success when the header fits
+     but the elements do not, which would leave half an answer. */
+  const LV2_Atom_Vector header = {
+      {(uint32_t)(sizeof(LV2_Atom_Vector_Body) + sizeof offsets_cents),
+       uris->atom_Vector},
+      {sizeof(float), uris->atom_Float}};
+  LV2_Atom_Forge_Ref ref = lv2_atom_forge_write(forge, &header, sizeof header);
+  return ref && lv2_atom_forge_write(forge, offsets_cents,
+                                     sizeof offsets_cents)
+             ? ref
+             : 0;
 }
 
 static bool is_our_property(const plumb_uris *uris, LV2_URID key) {

@@ -2,13 +2,16 @@
   plumb LV2: the plugin, urn:plumb:intonation.
 
   A thin wrapper: audio passes through untouched, the core (libplumb)
-  does all the analysis, and the log writer thread writes the session
-  log. The functions come in lifecycle order; each says its threading
+  does all the analysis, and the log writer writes the session log,
+  stepped by the host's worker when the host has one, else by a thread of
+  the plugin's own. The functions come in lifecycle order; each says its threading
   class as the LV2 specification defines them ("instantiation" functions
   are never called at the same time as run() on one instance).
 */
 #include "controls.h"
 #include "denormals.h"
+#include "log_thread.h"
+#include "log_worker.h"
 #include "log_writer.h"
 #include "messages.h"
 #include "note_events.h"
@@ -26,6 +29,7 @@
 #include <lv2/log/logger.h>
 #include <lv2/state/state.h>
 #include <lv2/urid/urid.h>
+#include <lv2/worker/worker.h>
 
 #include <stdbool.h>
 #include <stdint.h>
@@ -57,6 +61,8 @@ typedef struct {
   double sample_rate_hz;
   plumb *core;
   log_writer *writer;
+  log_worker worker;  /* the host's worker, when it offers one */
+  log_thread *thread; /* else the plugin's own; NULL with a worker */
   take_settings settings; /* as last given to the core */
   bool logging;
   plumb_lv2_parameters parameters; /* log folder, take label, offsets */
@@ -99,25 +105,36 @@ static bool start_core(Plumb *self) {
   return self->core != NULL;
 }
 
-/* make_path is kept for the writer thread, which alone may call it. */
+/* make_path is kept for the writer, which calls it only in a step. The
+   host's worker steps the writer when there is one (work:schedule), else
+   a thread of the plugin's own does. */
 static bool start_writer(Plumb *self, const LV2_Feature *const *features) {
   log_writer_config config = {self->core, self->logger, self->sample_rate_hz,
                               NULL, NULL};
   config.make_path = lv2_features_data(features, LV2_STATE__makePath);
   config.free_path = lv2_features_data(features, LV2_STATE__freePath);
+  const LV2_Worker_Schedule *schedule =
+      lv2_features_data(features, LV2_WORKER__schedule);
   int error = 0;
   self->writer = log_writer_new(&config, &error);
-  if (!self->writer) {
-    lv2_log_error(&self->logger,
-                  "plumb: cannot start the log writer thread (error %d)\n",
-                  error);
+  bool has_worker =
+      log_worker_init(&self->worker, schedule, self->sample_rate_hz);
+  if (self->writer && !has_worker) {
+    self->thread = log_thread_start(self->writer, &error);
   }
-  return self->writer != NULL;
+  if (!self->writer || (!has_worker && !self->thread)) {
+    lv2_log_error(&self->logger,
+                  "plumb: cannot start the session log writer (error %d)\n",
+                  error);
+    return false;
+  }
+  return true;
 }
 
 static void cleanup(LV2_Handle instance);
 
-/* [instantiation] All memory, the FFT plans and the writer thread. */
+/* [instantiation] All memory, the FFT plans and the log writer (with
+   its thread when the host has no worker). */
 static LV2_Handle instantiate(const LV2_Descriptor *descriptor,
                               double sample_rate_hz, const char *bundle_path,
                               const LV2_Feature *const *features) {
@@ -153,7 +170,7 @@ static LV2_Handle instantiate(const LV2_Descriptor *descriptor,
   messages_parameters_init(&self->parameters);
   state_snapshot_publish(&self->snapshot, &self->parameters);
   controls_default(&self->settings, &self->logging);
-  transport_reset(&self->position);
+  transport_reset(&self->position, sample_rate_hz);
   if (!start_core(self) || !start_writer(self, features)) {
     cleanup(self);
     return NULL;
@@ -200,11 +217,12 @@ static void request_update(Plumb *self) {
 static void activate(LV2_Handle instance) {
   Plumb *self = instance;
   plumb_reset(self->core);
-  transport_reset(&self->position);
+  transport_reset(&self->position, self->sample_rate_hz);
   self->ran = false;
   self->notes_not_sent = 0;
   request_update(self);
   log_writer_begin_take(self->writer);
+  log_worker_begin_take(&self->worker);
 }
 
 /* ------------------------------------------------------------------- run */
@@ -274,6 +292,16 @@ static void apply_set(Plumb *self, const LV2_Atom_Object *set) {
   parameters_changed(self, changed);
 }
 
+/* [RT] The core takes a new mark only when the transport really moved
+   somewhere else: the mark belongs to the next sample it analyses. */
+static void mark_transport(Plumb *self, const LV2_Atom_Object *position) {
+  if (transport_read(&self->position, &self->uris, position)) {
+    plumb_transport now;
+    transport_now(&self->position, &now);
+    plumb_mark_transport(self->core, &now);
+  }
+}
+
 static void handle_event(Plumb *self, const LV2_Atom *body, uint32_t frame) {
   if (!lv2_atom_forge_is_object_type(&self->forge, body->type)) {
     return;
@@ -288,11 +316,7 @@ static void handle_event(Plumb *self, const LV2_Atom *body, uint32_t frame) {
       log_writer_complain(self->writer, COMPLAINT_REPLY_DID_NOT_FIT);
     }
   } else if (kind == self->uris.time_Position) {
-    if (transport_read(&self->position, &self->uris, object)) {
-      plumb_mark_timeline(self->core,
-                          self->position.frame / self->sample_rate_hz,
-                          self->position.speed);
-    }
+    mark_transport(self, object);
   }
 }
 
@@ -368,15 +392,20 @@ static void run(LV2_Handle instance, uint32_t n_samples) {
   send_notes(self, n_samples);
   close_notify(self);
   hand_over_to_writer(self);
+  denormals_restore(guard);
+  /* In the host's own float mode, since a synchronous host makes the
+     log's pass in here (formatting numbers); before the outputs, so that
+     log_ok then shows its result at once. */
+  log_worker_run(&self->worker, n_samples);
   write_outputs(self);
   self->ran = true;
-  denormals_restore(guard);
 }
 
 /* ------------------------------------------------------------ deactivate */
 
-/* [instantiation] The take ends: complete the last note, then wait
-   (bounded) until its row is flushed and run.json has its totals. */
+/* [instantiation] The take ends: complete the last note, then write its
+   row, close the CSV and give run.json its totals (waiting, bounded, for
+   a pass of the log in progress on another thread). */
 static void deactivate(LV2_Handle instance) {
   Plumb *self = instance;
   plumb_finish(self->core);
@@ -385,7 +414,7 @@ static void deactivate(LV2_Handle instance) {
   log_writer_publish_counts(self->writer, &counts);
   const log_request *pending = self->request_pending ? &self->request : NULL;
   if (!log_writer_end_take(self->writer, pending, self->ran,
-                           END_TAKE_TIMEOUT_S)) {
+                           self->thread != NULL, END_TAKE_TIMEOUT_S)) {
     lv2_log_warning(&self->logger,
                     "plumb: the session log was not finished within 2 s; "
                     "its last rows or totals may be missing\n");
@@ -395,10 +424,11 @@ static void deactivate(LV2_Handle instance) {
 
 /* --------------------------------------------------------------- cleanup */
 
-/* [instantiation] Stops the writer (closing any open take) first, since
-   it reads the core. */
+/* [instantiation] Stops the own thread, then the writer (closing any
+   open take), before the core they read. */
 static void cleanup(LV2_Handle instance) {
   Plumb *self = instance;
+  log_thread_stop(self->thread);
   log_writer_free(self->writer);
   plumb_free(self->core);
   free(self);
@@ -438,9 +468,38 @@ static LV2_State_Status restore(LV2_Handle instance,
 
 static const LV2_State_Interface state_interface = {save, restore};
 
+/* [worker: non-real-time, never two at a time] One step of the session
+   log, for the message run() scheduled. May run inside run() itself
+   when the host is freewheeling. */
+static LV2_Worker_Status work(LV2_Handle instance,
+                              LV2_Worker_Respond_Function respond,
+                              LV2_Worker_Respond_Handle handle, uint32_t size,
+                              const void *data) {
+  (void)respond;
+  (void)handle;
+  Plumb *self = instance;
+  return log_worker_work(&self->worker, self->writer, size, data);
+}
+
+/* [audio] work() never responds (log_worker.h), so hosts never call this;
+   the interface has no way to leave it out. */
+static LV2_Worker_Status work_response(LV2_Handle instance, uint32_t size,
+                                       const void *body) {
+  (void)instance;
+  (void)size;
+  (void)body;
+  return LV2_WORKER_SUCCESS;
+}
+
+static const LV2_Worker_Interface worker_interface = {work, work_response,
+                                                      NULL};
+
 /* [discovery] */
 static const void *extension_data(const char *uri) {
-  return strcmp(uri, LV2_STATE__interface) == 0 ? &state_interface : NULL;
+  if (strcmp(uri, LV2_STATE__interface) == 0) {
+    return &state_interface;
+  }
+  return strcmp(uri, LV2_WORKER__interface) == 0 ? &worker_interface : NULL;
 }
 
 /* ------------------------------------------------------------ descriptor */

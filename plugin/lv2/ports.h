@@ -9,7 +9,7 @@ typedef enum {
   PORT_IN = 0,       /* audio in */
   PORT_OUT,          /* audio out: a bit-exact copy of in */
   PORT_CONTROL,      /* atom in: time:Position, patch:Set, patch:Get */
-  PORT_NOTIFY,       /* atom out: patch replies */
+  PORT_NOTIFY,       /* atom out: patch replies and note objects */
   PORT_REFERENCE,    /* A4 in Hz */
   PORT_TOLERANCE,    /* cents */
   PORT_TEMPERAMENT,  /* enumeration, plumb_temperament order */
@@ -28,6 +28,9 @@ typedef enum {
   PORT_FLAGGED,      /* out: of which flagged */
   PORT_LOG_OK,       /* out: 1 log fine, 0 log error */
   PORT_LATENCY,      /* out: lv2:latency, always 0 */
+  PORT_LAST_HNR,     /* out: the last note's harmonic-to-noise ratio, dB */
+  PORT_LAST_ODD_EVEN, /* out: the last note's odd/even balance, dB */
+  PORT_LAST_ATTACK,  /* out: the last note's attack time, ms */
   PORT_COUNT
 } plumb_port;
 

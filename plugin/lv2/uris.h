@@ -21,10 +21,14 @@
    each key is PLUMB_URI_NOTE_PREFIX and the field's name. */
 #define PLUMB_NOTE_INT_FIELDS(X) X(index) X(midi) X(partials) X(verdict)
 #define PLUMB_NOTE_DOUBLE_FIELDS(X)                                            \
-  X(start_s) X(end_s) X(timeline_s) X(target_hz) X(f0_hz) X(cents)            \
-  X(spread_cents) X(drift_cents_per_s) X(vibrato_hz) X(vibrato_cents)          \
-  X(confidence) X(inharmonicity_b) X(hnr_db) X(odd_even_db) X(centroid_hz)     \
-  X(attack_ms) X(decay_ms) X(sustain_db) X(release_ms) X(peak_dbfs)
+  X(start_s) X(end_s) X(timeline_s) X(bar) X(beat) X(target_hz) X(f0_hz)      \
+  X(cents) X(spread_cents) X(drift_cents_per_s) X(vibrato_hz)                  \
+  X(vibrato_cents) X(confidence) X(inharmonicity_b) X(hnr_db) X(odd_even_db)   \
+  X(centroid_hz) X(attack_ms) X(decay_ms) X(sustain_db) X(release_ms)          \
+  X(decay_db_per_s) X(peak_dbfs)
+/* atom:Vector fields: tristimulus (3 atom:Double), partial_cents (atom:Float,
+   one a partial from the first). */
+#define PLUMB_NOTE_VECTOR_FIELDS(X) X(tristimulus) X(partial_cents)
 #define PLUMB_NOTE_KEY_FIELD(name) LV2_URID note_##name;
 
 typedef struct {
@@ -47,12 +51,17 @@ typedef struct {
   LV2_URID time_Position;
   LV2_URID time_frame;
   LV2_URID time_speed;
+  LV2_URID time_bar;
+  LV2_URID time_barBeat;
+  LV2_URID time_beatsPerBar;
+  LV2_URID time_beatsPerMinute;
   LV2_URID plumb_logFolder;
   LV2_URID plumb_takeLabel;
   LV2_URID plumb_customOffsets;
   LV2_URID plumb_Note;
   PLUMB_NOTE_INT_FIELDS(PLUMB_NOTE_KEY_FIELD)
   PLUMB_NOTE_DOUBLE_FIELDS(PLUMB_NOTE_KEY_FIELD)
+  PLUMB_NOTE_VECTOR_FIELDS(PLUMB_NOTE_KEY_FIELD)
 } plumb_uris;
 
 static inline void plumb_uris_map(plumb_uris *uris, LV2_URID_Map *map) {
@@ -77,6 +86,10 @@ static inline void plumb_uris_map(plumb_uris *uris, LV2_URID_Map *map) {
   uris->time_Position = get(handle, LV2_TIME__Position);
   uris->time_frame = get(handle, LV2_TIME__frame);
   uris->time_speed = get(handle, LV2_TIME__speed);
+  uris->time_bar = get(handle, LV2_TIME__bar);
+  uris->time_barBeat = get(handle, LV2_TIME__barBeat);
+  uris->time_beatsPerBar = get(handle, LV2_TIME__beatsPerBar);
+  uris->time_beatsPerMinute = get(handle, LV2_TIME__beatsPerMinute);
   uris->plumb_logFolder = get(handle, PLUMB_URI_LOG_FOLDER);
   uris->plumb_takeLabel = get(handle, PLUMB_URI_TAKE_LABEL);
   uris->plumb_customOffsets = get(handle, PLUMB_URI_CUSTOM_OFFSETS);
@@ -85,6 +98,7 @@ static inline void plumb_uris_map(plumb_uris *uris, LV2_URID_Map *map) {
   uris->note_##name = get(handle, PLUMB_URI_NOTE_PREFIX #name);
   PLUMB_NOTE_INT_FIELDS(PLUMB_NOTE_KEY_MAP)
   PLUMB_NOTE_DOUBLE_FIELDS(PLUMB_NOTE_KEY_MAP)
+  PLUMB_NOTE_VECTOR_FIELDS(PLUMB_NOTE_KEY_MAP)
 #undef PLUMB_NOTE_KEY_MAP
 }
 
