@@ -42,6 +42,7 @@ struct plumb {
   fftwf_complex *spectra[PLUMB_SPECTRUM_RING];
   float band_db[PLUMB_SPECTRUM_RING][PLUMB_BANDS_MAX];
   double level_dbfs[PLUMB_SPECTRUM_RING];
+  double windowed_energy[PLUMB_SPECTRUM_RING]; /* sum of (w x)^2 of the frame */
   double onset_db[PLUMB_SPECTRUM_RING];
   float peak[PLUMB_SPECTRUM_RING];
   float energy[PLUMB_SPECTRUM_RING][PLUMB_ENVELOPE_STEPS];

@@ -267,21 +267,14 @@ bool harmonics_refine(const fftwf_complex *current,
   if (fit->found >= 3) drop_outliers(harmonics, &sums, fit, &harmonic_energy);
   if (fit->found == 0 || !(sums.weighted_nn > 0.0)) return false;
   f0 = sums.weighted_nf / sums.weighted_nn;
-  /* Energy from half the fundamental up to the last harmonic searched,
-     and (for the harmonic-to-noise ratio) of every bin but DC and Nyquist,
-     in one pass. */
-  double total = 0.0, all = 0.0;
+  /* Energy from half the fundamental up to the last harmonic searched. */
+  double total = 0.0;
   int first_bin = (int)floor(0.5 * f0_coarse_hz / bin_hz);
   if (first_bin < 1) first_bin = 1;
   if (last_harmonic_bin + 2 > last_bin) last_harmonic_bin = last_bin - 2;
-  for (int k = 1; k < last_bin; ++k) {
-    double p = bin_power(current, k);
-    all += p;
-    if (k >= first_bin && k <= last_harmonic_bin + 2) total += p;
-  }
+  for (int k = first_bin; k <= last_harmonic_bin + 2; ++k) total += bin_power(current, k);
   fit->f0_hz = f0;
   fit->harmonic_ratio = total > 0.0 ? fmin(1.0, harmonic_energy / total) : 0.0;
-  fit->total_power = all;
   lobe_power(current, fft_size, bin_hz, lobe_radius, harmonics, fit);
   return true;
 }

@@ -196,11 +196,9 @@ typedef struct {
   double harmonic_ratio;  /* energy in harmonic peaks / all energy */
   int found;              /* harmonics found */
   /* For the harmonic-to-noise ratio: the power of the bins of the found
-     harmonics' lobes, how many bins they are, and the power of every bin
-     from 1 to fft_size / 2 - 1. */
+     harmonics' lobes, and how many bins they are. */
   double lobe_power;
   int lobe_bins;
-  double total_power;
 } harmonic_fit;
 
 /* |X_k|^2 */
@@ -238,7 +236,7 @@ typedef struct {
   harmonic_set harmonics;
   float noise_power;      /* the spectrum's noise floor, per bin */
   float lobe_power;       /* harmonic_fit's, for the harmonic-to-noise ratio */
-  float total_power;
+  float total_power;      /* of every bin from 1 to fft_size / 2 - 1 */
   int lobe_bins;
   float energy[PLUMB_ENVELOPE_STEPS]; /* mean square of each step of the hop */
   int peak_count;

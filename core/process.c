@@ -82,6 +82,7 @@ static void analyse_newest(plumb *self, candidate_set *candidates) {
   decimate_hop(self);
   int slot = ring_slot(frame);
   spectrum_transform(&self->spectrum, self->window, self->spectra[slot]);
+  self->windowed_energy[slot] = self->spectrum.windowed_energy;
   spectrum_levels(&self->spectrum, self->spectra[slot], self->band_db[slot],
                   &self->level_dbfs[slot]);
   /* Until the frame two hops back lies wholly inside the take there is no
@@ -106,6 +107,17 @@ static bool in_range(const plumb *self, double f0_hz) {
   double lowest = 440.0 * exp2((self->settings.lowest_midi - 70.0) / 12.0);
   double highest = 440.0 * exp2((self->settings.highest_midi - 68.0) / 12.0);
   return f0_hz >= lowest && f0_hz <= highest;
+}
+
+/* The power of bins 1 … fft_size / 2 - 1 without a loop over them:
+   Parseval's theorem for FFTW's unnormalised transform of a real frame,
+   sum over all N bins of |X_k|^2 = N sum x^2, with bins 1 … N/2 - 1
+   counted twice and DC and Nyquist once. */
+static double bins_total_power(const plumb *self, int slot) {
+  const fftwf_complex *bins = self->spectra[slot];
+  double all = (double)self->fft_size * self->windowed_energy[slot];
+  double total = 0.5 * (all - bin_power(bins, 0) - bin_power(bins, self->fft_size / 2));
+  return total > 0.0 ? total : 0.0;
 }
 
 static void decide_frame(plumb *self, frame_record *record) {
@@ -158,7 +170,7 @@ static void decide_frame(plumb *self, frame_record *record) {
     record->harmonic_ratio = fit.harmonic_ratio;
     record->lobe_power = (float)fit.lobe_power;
     record->lobe_bins = fit.lobe_bins;
-    record->total_power = (float)fit.total_power;
+    record->total_power = (float)bins_total_power(self, slot);
   } else {
     memset(&record->harmonics, 0, sizeof record->harmonics);
   }
