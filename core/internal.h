@@ -305,7 +305,8 @@ void note_measure(const measure_context *context, const frame_record *frames,
 void note_timbre(const measure_context *context, const frame_record *frames,
                  const steady_part *part, const partial_model *model, plumb_note *note);
 /* An unpitched event's strong modes against the harmonics of its lowest. */
-void note_mode_cents(const frame_record *frames, int count, plumb_note *note);
+void note_mode_cents(const measure_context *context, const frame_record *frames, int count,
+                     plumb_note *note);
 
 /* ------------------------------------------------------------ envelope.c */
 

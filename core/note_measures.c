@@ -582,6 +582,6 @@ void note_measure(const measure_context *context, const frame_record *frames,
                   int count, double *scratch, float *levels_db, plumb_note *note) {
   clear_note(note);
   bool pitched = measure_pitch(context, frames, count, scratch, note);
-  if (!pitched) note_mode_cents(frames, count, note);
+  if (!pitched) note_mode_cents(context, frames, count, note);
   note_envelope(context, frames, count, pitched ? note->f0_hz : 0.0, levels_db, note);
 }

@@ -105,14 +105,15 @@ void note_timbre(const measure_context *context, const frame_record *frames,
 }
 
 /*
-  An unpitched event's modes: over its strong frames (from the loudest on,
-  within 10 dB of it), the frequencies of the peaks within 30 dB of each frame's
+  An unpitched event's modes: over its strong frames (within
+  MODE_FRAME_RANGE_DB of the loudest, from the loudest or the first whose
+  window lies after the onset, whichever is later), the frequencies of the peaks within 30 dB of each frame's
   strongest. The lowest mode is the median of the frames' lowest peaks;
   each peak goes to the slot of the harmonic of it nearest to it (the
   strongest peak of a frame per slot), and a slot reads the power-weighted
   mean deviation, in cents, of its peaks.
 */
-#define MODE_FRAME_RANGE_DB 10.0
+#define MODE_FRAME_RANGE_DB 20.0
 #define MODE_PEAK_RANGE 1e-3 /* 30 dB */
 #define MODE_FRAMES_MAX 64
 
@@ -120,13 +121,21 @@ static bool strong_frame(const frame_record *f, double loudest_dbfs) {
   return f->level_dbfs >= loudest_dbfs - MODE_FRAME_RANGE_DB && f->peak_count > 0;
 }
 
-/* The loudest frame: modes are read from there on, with the onset's
-   transient already past the window's centre. */
-static int loudest_frame(const frame_record *frames, int count) {
+/* The first frame to read modes from: the loudest, or the first whose
+   window lies wholly after the onset if that is later (a window that holds
+   the onset reads its modes' frequencies off: the phase advance between
+   two frames then compares different parts of the strike). */
+static int first_mode_frame(const measure_context *context, const frame_record *frames,
+                            int count, double onset_s) {
   int loudest = 0;
   for (int i = 1; i < count; ++i)
     if (frames[i].level_dbfs > frames[loudest].level_dbfs) loudest = i;
-  return loudest;
+  int clear = loudest;
+  double clear_s = onset_s + 0.5 * context->frame_s;
+  while (clear < count - 1 &&
+         (double)frames[clear].centre_sample / context->sample_rate_hz < clear_s)
+    ++clear;
+  return strong_frame(&frames[clear], frames[loudest].level_dbfs) ? clear : loudest;
 }
 
 static double lowest_mode_hz(const frame_record *frames, int count, int from,
@@ -145,9 +154,11 @@ static double lowest_mode_hz(const frame_record *frames, int count, int from,
   return m > 0 ? stats_median(lowest, m) : NAN;
 }
 
-void note_mode_cents(const frame_record *frames, int count, plumb_note *note) {
-  int from = loudest_frame(frames, count);
-  double loudest_dbfs = frames[from].level_dbfs;
+void note_mode_cents(const measure_context *context, const frame_record *frames, int count,
+                     plumb_note *note) {
+  int from = first_mode_frame(context, frames, count, note->start_s);
+  double loudest_dbfs = -INFINITY;
+  for (int i = 0; i < count; ++i) loudest_dbfs = fmax(loudest_dbfs, frames[i].level_dbfs);
   double low_hz = lowest_mode_hz(frames, count, from, loudest_dbfs);
   if (!(low_hz > 0.0) || !isfinite(low_hz)) return;
   double weight[PLUMB_MAX_PARTIALS] = {0}, cents[PLUMB_MAX_PARTIALS] = {0};

@@ -94,8 +94,8 @@ static void test_bar_modes_read_against_harmonics(void **state) {
   print_message("bar: partial 3 %+.2f cents (expected %+.2f), 5 %+.2f (expected %+.2f)\n",
                 note->partial_cents[2], expected_3, note->partial_cents[4], expected_5);
   assert_true(fabs(expected_3 + 146.5) < 0.05);
-  assert_true(fabs(note->partial_cents[2] - expected_3) <= 1.0);
-  assert_true(fabs(note->partial_cents[4] - expected_5) <= 1.0);
+  assert_true(fabs(note->partial_cents[2] - expected_3) <= 0.2);
+  assert_true(fabs(note->partial_cents[4] - expected_5) <= 0.2);
 }
 
 static void test_noise_bursts_are_unpitched(void **state) {
