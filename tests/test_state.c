@@ -27,6 +27,7 @@
 #include <dlfcn.h>
 #include <ftw.h>
 #include <limits.h>
+#include <math.h>
 #include <pthread.h>
 #include <stdarg.h>
 #include <stdatomic.h>
@@ -159,6 +160,7 @@ static LV2_State_Map_Path map_path = {NULL, abstract_path, absolute_path};
 
 static pthread_mutex_t make_lock = PTHREAD_MUTEX_INITIALIZER;
 static int make_calls;
+static int relative_answers; /* make_path answers this many calls with a relative path */
 static pthread_t make_threads[MAX_CALLS];
 
 /* SESSION/path, made, as a malloc'd string (the plugin frees it). */
@@ -170,6 +172,12 @@ static char *make_path(LV2_State_Make_Path_Handle handle, const char *path) {
   }
   make_calls++;
   pthread_mutex_unlock(&make_lock);
+  /* A host that does not know its session's folder yet answers with the
+     path as given (measured in one workstation, docs/hosts.md). */
+  if (relative_answers > 0) {
+    relative_answers--;
+    return strdup(path);
+  }
   char *made = joined(dirs.session, path);
   if (made) {
     mkdir(made, 0777);
@@ -439,7 +447,20 @@ static void run_block(plugin_host *host) {
   suite.descriptor->run(host->instance, BLOCK_FRAMES);
 }
 
-/* A take of quiet noise; `folder`, if not NULL, is set at frame 0. */
+/* Block `block` of a take: a quiet 440 Hz tone (-26 dBFS: hearing
+   caution) for the first half of the take, then faint noise. */
+static void fill_block(plugin_host *host, int block) {
+  for (int i = 0; i < BLOCK_FRAMES; ++i) {
+    double t_s = (block * BLOCK_FRAMES + i) / SAMPLE_RATE_HZ;
+    host->in[i] = block < BLOCKS / 2 ? (float)(0.05 * sin(2.0 * M_PI * 440.0 * t_s))
+                                     : 0.001f * (float)((i * 7919) % 101 - 50) / 50.0f;
+  }
+}
+
+/* A take of a quiet 440 Hz tone (-26 dBFS: hearing caution) for the first
+   half, then faint noise, so that one note completes and the take's files
+   are opened (docs/log-format.md: with the first note); `folder`, if not
+   NULL, is set at frame 0. */
 static void run_take(plugin_host *host, const char *folder) {
   suite.descriptor->activate(host->instance);
   for (int block = 0; block < BLOCKS; ++block) {
@@ -450,9 +471,7 @@ static void run_take(plugin_host *host, const char *folder) {
     if (block == 0 && folder) {
       forge_parameters(host, folder);
     }
-    for (int i = 0; i < BLOCK_FRAMES; ++i) {
-      host->in[i] = 0.001f * (float)((i * 7919) % 101 - 50) / 50.0f;
-    }
+    fill_block(host, block);
     run_block(host);
   }
   suite.descriptor->deactivate(host->instance);
@@ -666,6 +685,37 @@ static void test_make_path(void **state) {
    "Who writes the session log"), so makePath is called on the host's
    worker thread, and only there. The host lets its worker finish what
    run() scheduled before it deactivates, as a live host has time to. */
+/* A host that runs the plugin before it knows where its session is (one
+   workstation runs a block to learn the latency, and makePath then answers
+   "plumb-logs" as given): that take has no notes and leaves no files, the
+   relative answer is not taken for a folder, and the next take asks again
+   and logs inside the session. */
+static void test_make_path_relative_first(void **state) {
+  (void)state;
+  plugin_host *host = open_host(true, true);
+  relative_answers = 1;
+  suite.descriptor->activate(host->instance); /* the probe: one silent block */
+  LV2_Atom_Forge forge;
+  LV2_Atom_Forge_Frame sequence;
+  begin_control(host, &forge, &sequence);
+  lv2_atom_forge_pop(&forge, &sequence);
+  memset(host->in, 0, sizeof host->in);
+  run_block(host);
+  suite.descriptor->deactivate(host->instance);
+  run_take(host, NULL); /* the real take, with a note */
+  close_host(host);
+  relative_answers = 0;
+  assert_true(make_calls_now() >= 1);
+  char *made = joined(dirs.session, "plumb-logs");
+  assert_int_equal(count_ending(made, ".notes.csv"), 1);
+  assert_int_equal(count_ending(made, ".run.json"), 1);
+  assert_int_equal(count_ending(dirs.env, ".notes.csv"), 0);
+  free(made);
+  /* nothing was made relative to the working folder */
+  struct stat info;
+  assert_true(stat("plumb-logs", &info) != 0);
+}
+
 static void test_make_path_from_the_hosts_worker(void **state) {
   (void)state;
   worker.interface = suite.descriptor->extension_data(LV2_WORKER__interface);
@@ -681,7 +731,7 @@ static void test_make_path_from_the_hosts_worker(void **state) {
     LV2_Atom_Forge_Frame sequence;
     begin_control(host, &forge, &sequence);
     lv2_atom_forge_pop(&forge, &sequence);
-    memset(host->in, 0, sizeof host->in);
+    fill_block(host, block); /* a note: the take's files open with it */
     run_block(host);
   }
   const struct timespec pause = {0, 1000000L};
@@ -778,6 +828,7 @@ int main(void) {
       cmocka_unit_test_setup_teardown(test_missing_and_wrong_types, make_dirs,
                                       remove_dirs),
       cmocka_unit_test_setup_teardown(test_make_path, make_dirs, remove_dirs),
+      cmocka_unit_test_setup_teardown(test_make_path_relative_first, make_dirs, remove_dirs),
       cmocka_unit_test_setup_teardown(test_make_path_from_the_hosts_worker,
                                       make_dirs, remove_dirs),
       cmocka_unit_test_setup_teardown(test_without_make_path, make_dirs,

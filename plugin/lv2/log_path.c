@@ -58,7 +58,9 @@ int log_path_session_folder(const LV2_State_Make_Path *make_path,
   if (!made) {
     return -1;
   }
-  int result = made[0] ? copy_joined(folder, size, made, "") : -1;
+  /* Only an absolute path is a folder of the session's: a relative one
+     would land wherever the host happens to run. */
+  int result = made[0] == '/' ? copy_joined(folder, size, made, "") : -1;
   if (free_path) {
     free_path->free_path(free_path->handle, made);
   } else {

@@ -25,7 +25,7 @@ int log_path_default_folder(char *folder, size_t size);
    the session), copied into folder; the host's string is freed with
    free_path, or free() when free_path is NULL. Call it from the writer
    thread only, never in instantiate() or run(). Returns 0, or -1 when
-   the host gave no path or it does not fit in size. */
+   the host gave no path, a relative one, or one that does not fit. */
 int log_path_session_folder(const LV2_State_Make_Path *make_path,
                             const LV2_State_Free_Path *free_path,
                             char *folder, size_t size);

@@ -62,7 +62,7 @@ struct log_writer {
   run_record record;
   char record_label[PLUMB_LV2_LABEL_MAX];
   char session_folder[PLUMB_LV2_FOLDER_MAX]; /* from make_path; "" if none */
-  bool session_asked;                        /* make_path has been called */
+  unsigned session_asked_take; /* the take make_path was last called in, 0: never */
   bool target_failed; /* opening failed; retried for a new target/take */
   unsigned take_seen;
 };
@@ -130,10 +130,16 @@ static void write_record(log_writer *writer) {
   }
 }
 
-/* The host's folder inside the session, asked for once, in a step. */
+/* The host's folder inside the session, asked for in a step: once it is
+   given, and else once a take. A host may not know its session's folder
+   yet when it first runs the plugin (one workstation runs a block before
+   the plugin has its place in the session, and answers with a relative
+   path then), so an answer that is not an absolute path is not taken and
+   the next take asks again. */
 static const char *session_folder(log_writer *writer) {
-  if (writer->make_path && !writer->session_asked) {
-    writer->session_asked = true;
+  if (writer->make_path && !writer->session_folder[0] &&
+      writer->session_asked_take != writer->take_seen) {
+    writer->session_asked_take = writer->take_seen;
     if (log_path_session_folder(writer->make_path, writer->free_path,
                                 writer->session_folder,
                                 sizeof writer->session_folder) != 0) {
@@ -153,8 +159,12 @@ static const char *folder_of(log_writer *writer,
   return session[0] ? session : writer->default_folder;
 }
 
-/* Opens the take's files once logging is on and run() has delivered the
-   first events (so a folder or label sent at frame 0 is the one used). */
+/* Opens the take's files with its first note, once logging is on and
+   run() has delivered the first events (so a folder or label sent at frame
+   0 is the one used). A take with no notes (a host running the plugin for
+   a block to learn its latency, a host that activates it again after an
+   export) leaves no files, and never truncates an earlier take's log of
+   the same name. */
 static void open_take_when_wanted(log_writer *writer) {
   if (writer->file.csv || writer->target_failed ||
       !atomic_load(&writer->logging) || !atomic_load(&writer->ready)) {
@@ -284,6 +294,7 @@ static void write_note(log_writer *writer, const plumb_note *note) {
 static void drain_notes(log_writer *writer) {
   plumb_note note;
   while (pop_note(writer, &note)) {
+    open_take_when_wanted(writer);
     if (!writer->file.csv) {
       continue;
     }
@@ -314,7 +325,6 @@ static void step_locked(log_writer *writer) {
   if (atomic_load(&writer->take_active)) {
     start_new_take_if_any(writer);
     take_request(writer);
-    open_take_when_wanted(writer);
     drain_notes(writer);
   }
   report_complaints(writer);
