@@ -53,7 +53,7 @@ double vocoder_frequency_bins(const fftwf_complex *current,
 static double harmonic_frequency_bins(const fftwf_complex *current,
                                       const fftwf_complex *previous, int peak,
                                       int radius, int fft_size, int hop,
-                                      double *power_sum) {
+                                      bool peak_only, double *power_sum) {
   const int last_bin = fft_size / 2;
   /* The phase advance over a hop reads frequencies unambiguously only
      within fft_size / (2 hop) bins of a bin's centre. */
@@ -68,12 +68,17 @@ static double harmonic_frequency_bins(const fftwf_complex *current,
     if (k < 1 || k >= last_bin) continue;
     double p = bin_power(current, k);
     if (p < PEAK_RANGE * peak_power) continue;
-    double f = vocoder_frequency_bins(current, previous, k, fft_size, hop);
-    if (fabs(f - k) > deviation_limit) continue; /* a bin no partial drives */
-    weighted += p * f;
     total += p;
+    if (peak_only) continue;
+    double f = vocoder_frequency_bins(current, previous, k, fft_size, hop);
+    if (fabs(f - k) > deviation_limit) { /* a bin no partial drives */
+      total -= p;
+      continue;
+    }
+    weighted += p * f;
   }
   *power_sum = total;
+  if (peak_only) return vocoder_frequency_bins(current, previous, peak, fft_size, hop);
   return total > 0.0 ? weighted / total : (double)peak;
 }
 
@@ -252,8 +257,12 @@ bool harmonics_refine(const fftwf_complex *current,
     }
     missed_in_a_row = 0;
     double power;
-    double frequency_bins = harmonic_frequency_bins(current, previous, k, lobe_radius,
-                                                    fft_size, hop, &power);
+    /* The partials above those the pitch uses need no local mean
+       frequency (it is for vibrato, 3.3 of docs/methods.md): the peak bin's
+       instantaneous frequency, exact on a steady partial, is enough. */
+    double frequency_bins =
+        harmonic_frequency_bins(current, previous, k, lobe_radius, fft_size, hop,
+                                n > PLUMB_PITCH_PARTIALS, &power);
     double frequency_hz = frequency_bins * bin_hz;
     if (frequency_hz < low_hz - 0.5 * bin_hz || frequency_hz > high_hz + 0.5 * bin_hz)
       continue; /* an inharmonic mode, or not a steady peak */

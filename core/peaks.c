@@ -54,6 +54,8 @@ int spectrum_strong_peaks(const fftwf_complex *current, const fftwf_complex *pre
     double p = bin_power(current, k);
     if (p < threshold || p < bin_power(current, k - 1) || p < bin_power(current, k + 1))
       continue;
+    /* Only a peak that makes the list needs its frequency. */
+    if (count >= max_peaks && p <= peaks[max_peaks - 1].power) continue;
     spectral_peak peak;
     peak.frequency_hz =
         (float)(vocoder_frequency_bins(current, previous, k, fft_size, hop) * bin_hz);
