@@ -18,6 +18,7 @@
 #include "internal.h"
 
 #include <math.h>
+#include <stdlib.h>
 
 /* Common practice, no source; set on the project's synthetic envelopes
    and FluidR3's organ, guitar and piano (tests/test_envelope.c,
@@ -30,6 +31,11 @@
 #define PLATEAU_HELD_DB 1.0    /* the plateau is tested up to its last step this close */
 #define PLATEAU_BAND_DB 3.0    /* the release starts below the dwelling level by this */
 #define DECAY_END_DB 1.0       /* the decay has reached the plateau within this */
+#define TOP_DB 0.5             /* the attack has reached the peak within this */
+/* A note that starts out of sound (a legato change, a re-articulation)
+   within this of its own peak: its envelope starts at its onset, not half
+   a window before, where the sound before it still rings. */
+#define FROM_SOUND_DB 20.0
 /* A peak less than this above the plateau is the level wandering, not a
    decay stage: the attack then rises to the plateau, not to the peak. */
 #define ATTACK_TO_PLATEAU_DB 4.0
@@ -45,17 +51,45 @@
    centre time. */
 typedef struct {
   const frame_record *frames;
-  int steps;      /* frames * PLUMB_ENVELOPE_STEPS */
+  int skipped;    /* steps of the frames left out at the start */
+  int steps;      /* the steps used */
   int length;     /* steps of each running mean */
   double step_s;
   double first_s; /* centre of step 0 */
+  double head_energy, tail_energy; /* what the ends are held at */
   float *db;      /* the smoothed level of every step, dBFS */
 } envelope;
 
-static double step_energy(const envelope *e, int j) {
-  if (j < 0) j = 0; /* the ends are held */
-  if (j >= e->steps) j = e->steps - 1;
+static double raw_energy(const envelope *e, int j) {
+  j += e->skipped;
   return e->frames[j / PLUMB_ENVELOPE_STEPS].energy[j % PLUMB_ENVELOPE_STEPS];
+}
+
+/* Beyond the ends the envelope is held at its first and last values that
+   the smoothing fully covers (the triangle-weighted mean of the first or
+   last 2 length - 1 steps): one step of a peaky waveform may sit 2 dB off
+   its mean, and holding it would add a false rise or fall at the ends. */
+static double step_energy(const envelope *e, int j) {
+  if (j < 0) return e->head_energy;
+  if (j >= e->steps) return e->tail_energy;
+  return raw_energy(e, j);
+}
+
+static void hold_ends(envelope *e) {
+  int n = e->length, span = 2 * n - 1;
+  if (span > e->steps) {
+    n = (e->steps + 1) / 2;
+    span = 2 * n - 1;
+  }
+  double head = 0.0, tail = 0.0, weights = 0.0;
+  for (int i = 0; i < span; ++i) {
+    double w = n - abs(i - (n - 1));
+    head += w * raw_energy(e, i);
+    tail += w * raw_energy(e, e->steps - 1 - i);
+    weights += w;
+  }
+  e->head_energy = weights > 0.0 ? head / weights : 0.0;
+  e->tail_energy = weights > 0.0 ? tail / weights : 0.0;
 }
 
 static double step_time_s(const envelope *e, double j) { return e->first_s + j * e->step_s; }
@@ -85,7 +119,7 @@ static void smoother_start(smoother *s, const envelope *e) {
   s->e = e;
   s->length = e->length;
   int n = e->length;
-  double x = step_energy(e, 0);
+  double x = step_energy(e, -1); /* what the start is held at */
   for (int i = 0; i < n; ++i) s->first[i] = s->second[i] = x;
   s->first_sum = s->second_sum = n * x;
   s->slot = 0;
@@ -137,9 +171,9 @@ typedef struct {
 } level_histogram;
 
 static void histogram_add(level_histogram *h, double below_peak_db) {
-  int bin = (int)floor(below_peak_db / HISTOGRAM_DB);
+  int bin = HISTOGRAM_BINS - 1; /* and a silent step (-inf dB) */
+  if (below_peak_db < SOUNDING_DB) bin = (int)floor(below_peak_db / HISTOGRAM_DB);
   if (bin < 0) bin = 0;
-  if (bin >= HISTOGRAM_BINS) bin = HISTOGRAM_BINS - 1;
   h->counts[bin]++;
   h->total++;
 }
@@ -183,6 +217,7 @@ static double crossing_s(const envelope *e, int j, double db_before, double db, 
 /* What the passes find, in dB relative to the peak. */
 typedef struct {
   int peak;          /* step of the peak */
+  int top;           /* the first step within TOP_DB of it */
   double peak_db;    /* absolute */
   int sounding_end;  /* last step within SOUNDING_DB of the peak */
   bool plateau;
@@ -203,6 +238,14 @@ static void find_peak(const envelope *e, envelope_shape *shape) {
     }
     if (db >= shape->peak_db - SOUNDING_DB) shape->sounding_end = j;
   }
+  /* On a flat plateau the maximum may fall anywhere, even near the end;
+     what follows the attack starts where the level first comes near it. */
+  shape->top = shape->peak;
+  for (int j = 0; j < shape->peak; ++j)
+    if (e->db[j] >= shape->peak_db - TOP_DB) {
+      shape->top = j;
+      break;
+    }
 }
 
 /* After the peak: the dwelling level, the last steps within
@@ -212,7 +255,7 @@ static void find_peak(const envelope *e, envelope_shape *shape) {
    long enough, high enough, and level (the medians of its two halves,
    which a release's first decibels at the end cannot move). */
 static void find_plateau(const envelope *e, envelope_shape *shape) {
-  int from = shape->peak, to = shape->sounding_end;
+  int from = shape->top, to = shape->sounding_end;
   shape->plateau = false;
   shape->plateau_db = 0.0;
   shape->release_start = from;
@@ -254,7 +297,7 @@ static double attack_ms(const envelope *e, const envelope_shape *shape) {
   if (shape->plateau && shape->plateau_db > -ATTACK_TO_PLATEAU_DB) top_db += shape->plateau_db;
   double low = top_db + 20.0 * log10(0.1), high = top_db + 20.0 * log10(0.9);
   double previous = -INFINITY, t10 = NAN, t90 = NAN;
-  for (int j = 0; j <= shape->peak; ++j) {
+  for (int j = 0; j <= shape->top; ++j) {
     double db = e->db[j];
     if (db < low) t10 = t90 = NAN; /* the attack starts after the last quiet step */
     else if (isnan(t10) && j > 0 && previous < low) t10 = crossing_s(e, j, previous, db, low);
@@ -273,7 +316,7 @@ static void measure_decays(const envelope *e, const envelope_shape *shape, plumb
   line_sums t20 = {0}, t30 = {0};
   double deepest = 0.0;
   for (int j = 0; j <= shape->sounding_end; ++j) {
-    if (j < shape->peak) continue;
+    if (j < shape->top) continue;
     double db = e->db[j] - shape->peak_db;
     if (shape->plateau && decay_end < 0 && db <= top_db + DECAY_END_DB) decay_end = j;
     if (j < shape->release_start) continue;
@@ -288,7 +331,7 @@ static void measure_decays(const envelope *e, const envelope_shape *shape, plumb
                                          : NAN;
   if (shape->plateau) {
     note->sustain_db = shape->plateau_db;
-    if (decay_end >= 0) note->decay_ms = 1000.0 * (decay_end - shape->peak) * e->step_s;
+    if (decay_end >= 0) note->decay_ms = 1000.0 * (decay_end - shape->top) * e->step_s;
     if (slope < 0.0) note->release_ms = 1000.0 * 60.0 / -slope;
   } else if (slope < 0.0) {
     note->decay_db_per_s = slope;
@@ -301,11 +344,21 @@ void note_envelope(const measure_context *context, const frame_record *frames, i
   envelope e;
   e.frames = frames;
   e.db = levels_db;
-  e.steps = count * PLUMB_ENVELOPE_STEPS;
   e.step_s = context->hop_s / PLUMB_ENVELOPE_STEPS;
   /* Steps cover the oldest hop of each frame's window. */
-  e.first_s = ((double)frames[0].centre_sample - 0.5 * context->fft_size) /
-                  context->sample_rate_hz + 0.5 * e.step_s;
+  double steps_start_s = ((double)frames[0].centre_sample - 0.5 * context->fft_size) /
+                         context->sample_rate_hz;
+  e.skipped = 0;
+  double loudest_dbfs = -INFINITY;
+  for (int i = 0; i < count; ++i) loudest_dbfs = fmax(loudest_dbfs, frames[i].level_dbfs);
+  bool from_sound = frames[0].legato_start ||
+                    frames[0].level_before_dbfs >= loudest_dbfs - FROM_SOUND_DB;
+  if (from_sound && note->start_s > steps_start_s) {
+    e.skipped = (int)floor((note->start_s - steps_start_s) / e.step_s);
+    if (e.skipped > count * PLUMB_ENVELOPE_STEPS - 1) e.skipped = count * PLUMB_ENVELOPE_STEPS - 1;
+  }
+  e.steps = count * PLUMB_ENVELOPE_STEPS - e.skipped;
+  e.first_s = steps_start_s + (e.skipped + 0.5) * e.step_s;
   /* Each mean one period long (whole periods of the ripple at twice the
      frequency), at least two steps. */
   double period_s = f0_hz > 0.0 ? 1.0 / f0_hz : SMOOTHING_MIN_S;
@@ -313,6 +366,7 @@ void note_envelope(const measure_context *context, const frame_record *frames, i
   if (length < 2) length = 2;
   if (length > SMOOTHING_MAX_STEPS) length = SMOOTHING_MAX_STEPS;
   e.length = length;
+  hold_ends(&e);
   smooth_levels(&e);
   envelope_shape shape;
   find_peak(&e, &shape);

@@ -234,8 +234,10 @@ bool harmonics_refine(const fftwf_complex *current,
        side (the coarse error until a harmonic is found), and above it, until
        enough harmonics are found to steer by B, the stretch of the
        stiffest string accepted. A mode outside the window is not a
-       harmonic. A window wider than the harmonics' spacing is cut to it
-       from its low edge, so that it still holds n f0. */
+       harmonic. A window wider than the harmonics' spacing is cut to it:
+       about n f0 once a harmonic anchors the fit, from its low edge before
+       (so that it still reaches down to a stiff string's short YIN
+       reading). */
     double relative = fit->found == 0 ? COARSE_RELATIVE_ERROR : ACCEPT_RELATIVE_ERROR;
     /* YIN reads a stiff string's period short (its stretched partials pull
        it), so until a harmonic is found the window reaches further down. */
@@ -245,8 +247,11 @@ bool harmonics_refine(const fftwf_complex *current,
     if (sums.count < SEARCH_B_MIN_HARMONICS) high_hz *= sqrt(1.0 + ACCEPT_B_MAX * n * n);
     int low_bin = (int)floor(low_hz / bin_hz), high_bin = (int)ceil(high_hz / bin_hz);
     int radius = (high_bin - low_bin + 1) / 2;
-    if (radius > spacing_radius) radius = spacing_radius > 1 ? spacing_radius : 1;
     int centre = low_bin + radius;
+    if (radius > spacing_radius) {
+      radius = spacing_radius > 1 ? spacing_radius : 1;
+      centre = fit->found > 0 ? (int)lround(expected_hz / bin_hz) : low_bin + radius;
+    }
     last_harmonic_bin = centre + radius;
     int k = find_peak(current, centre, radius, last_bin);
     if (k < 0 || bin_power(current, k) < floor_power) {
@@ -263,6 +268,7 @@ bool harmonics_refine(const fftwf_complex *current,
     double frequency_bins =
         harmonic_frequency_bins(current, previous, k, lobe_radius, fft_size, hop,
                                 n > PLUMB_PITCH_PARTIALS, &power);
+    if (!(power > 0.0)) continue; /* no bin of the lobe read as a partial */
     double frequency_hz = frequency_bins * bin_hz;
     if (frequency_hz < low_hz - 0.5 * bin_hz || frequency_hz > high_hz + 0.5 * bin_hz)
       continue; /* an inharmonic mode, or not a steady peak */
@@ -284,6 +290,8 @@ bool harmonics_refine(const fftwf_complex *current,
   for (int k = first_bin; k <= last_harmonic_bin + 2; ++k) total += bin_power(current, k);
   fit->f0_hz = f0;
   fit->harmonic_ratio = total > 0.0 ? fmin(1.0, harmonic_energy / total) : 0.0;
+  fit->band_power = total;
+  fit->band_bins = last_harmonic_bin + 2 - first_bin + 1;
   lobe_power(current, fft_size, bin_hz, lobe_radius, harmonics, fit);
   return true;
 }

@@ -18,7 +18,7 @@
 /* The lowest partials, which a note's pitch is measured from (partial_fit.c). */
 #define PLUMB_PITCH_PARTIALS 16
 /* Each frame carries the signal's mean square over this many equal steps
-   of the hop around its centre: the note's envelope, at about 0.67 ms. */
+   of its window's oldest hop: the note's envelope, at 0.67-0.73 ms. */
 #define PLUMB_ENVELOPE_STEPS 16
 /* Partials are searched up to this share of the sample rate, below the
    anti-aliasing filters' transition band. Common practice, no source. */
@@ -196,9 +196,12 @@ typedef struct {
   double harmonic_ratio;  /* energy in harmonic peaks / all energy */
   int found;              /* harmonics found */
   /* For the harmonic-to-noise ratio: the power of the bins of the found
-     harmonics' lobes, and how many bins they are. */
+     harmonics' lobes and how many bins they are, and the same of every bin
+     of the band searched (from half the fundamental to the last window). */
   double lobe_power;
   int lobe_bins;
+  double band_power;
+  int band_bins;
 } harmonic_fit;
 
 /* |X_k|^2 */
@@ -236,8 +239,10 @@ typedef struct {
   harmonic_set harmonics;
   float noise_power;      /* the spectrum's noise floor, per bin */
   float lobe_power;       /* harmonic_fit's, for the harmonic-to-noise ratio */
-  float total_power;      /* of every bin from 1 to fft_size / 2 - 1 */
   int lobe_bins;
+  float band_power;
+  int band_bins;
+  float total_power;      /* of every bin from 1 to fft_size / 2 - 1 */
   float energy[PLUMB_ENVELOPE_STEPS]; /* mean square of each step of the hop */
   int peak_count;
   spectral_peak peaks[PLUMB_FRAME_PEAKS]; /* the strongest spectral peaks */

@@ -38,6 +38,7 @@ static void leave_unpitched(plumb_note *note) {
   note->spread_cents = note->drift_cents_per_s = NAN;
   note->vibrato_hz = note->vibrato_cents = NAN;
   note->inharmonicity_b = NAN;
+  note->partials = -1;
   note->verdict = PLUMB_VERDICT_UNPITCHED;
 }
 
@@ -543,7 +544,7 @@ static bool measure_pitch(const measure_context *context, const frame_record *fr
   }
   partial_model model = partial_model_fit(context, frames, &part);
   note->inharmonicity_b = model.b;
-  note->partials = model.partials;
+  note->partials = model.partials > 0 ? model.partials : -1;
   double *cents = scratch;
   int n = uniform_cents(frames, &part, &model, cents);
   vibrato_reading vibrato;

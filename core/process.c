@@ -170,6 +170,8 @@ static void decide_frame(plumb *self, frame_record *record) {
     record->harmonic_ratio = fit.harmonic_ratio;
     record->lobe_power = (float)fit.lobe_power;
     record->lobe_bins = fit.lobe_bins;
+    record->band_power = (float)fit.band_power;
+    record->band_bins = fit.band_bins;
     record->total_power = (float)bins_total_power(self, slot);
   } else {
     memset(&record->harmonics, 0, sizeof record->harmonics);

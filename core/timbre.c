@@ -13,6 +13,7 @@
 /* The median of exponentially distributed noise power is ln 2 times its
    mean: spectrum_noise_floor's median gives the mean power of a noise bin. */
 #define NOISE_MEDIAN_TO_MEAN (1.0 / M_LN2)
+#define HNR_CEILING 1e-10 /* noise at least this share of the harmonic energy: 100 dB */
 
 typedef struct {
   double power[PLUMB_MAX_PARTIALS];     /* sum over frames of a_k^2 where found */
@@ -23,18 +24,20 @@ typedef struct {
   double lobe_power, noise_power; /* harmonic and noise energy, for the HNR */
 } partial_sums;
 
-/* The harmonic and noise energy of one frame. The lobes of the found
-   partials hold the noise of their bins too: with the noise taken as white,
-   its density is what lies outside the lobes per bin outside them. */
+/* The harmonic and noise energy of one frame. The noise is taken as
+   white, with the density it has between the found partials' lobes in the
+   band searched; over the whole spectrum that is the frame's noise, and the
+   rest of its energy is harmonic: the lobes' own share of noise is taken
+   out, and partials beyond the search (above the 40th, or where it
+   stopped) count as harmonic, as in an autocorrelation form. */
 static void add_hnr(const frame_record *f, int fft_size, partial_sums *s) {
   int all_bins = fft_size / 2 - 1;
-  int outside_bins = all_bins - f->lobe_bins;
+  int outside_bins = f->band_bins - f->lobe_bins;
   if (f->lobe_bins <= 0 || outside_bins <= 0 || !(f->total_power > 0.0f)) return;
-  double residual = fmax(0.0, (double)f->total_power - f->lobe_power);
-  double density = residual / outside_bins;
-  double harmonic = fmax(0.0, (double)f->lobe_power - density * f->lobe_bins);
-  s->lobe_power += harmonic;
-  s->noise_power += (double)f->total_power - harmonic;
+  double density = fmax(0.0, (double)f->band_power - f->lobe_power) / outside_bins;
+  double noise = fmin((double)f->total_power, density * all_bins);
+  s->lobe_power += (double)f->total_power - noise;
+  s->noise_power += noise;
 }
 
 static void sum_partials(const measure_context *context, const frame_record *frames,
@@ -76,7 +79,7 @@ void note_timbre(const measure_context *context, const frame_record *frames,
   sum_partials(context, frames, part, model, &s);
   if (s.frames == 0) return;
   double odd = 0.0, even = 0.0, amplitude_sum = 0.0, weighted_hz = 0.0;
-  double low_three = 0.0, first = 0.0;
+  double low_three = 0.0, first = 0.0, upper = 0.0;
   for (int k = 0; k < PLUMB_MAX_PARTIALS; ++k) {
     int n = k + 1;
     /* A partial not found counts with the noise in its lobe: an odd-only
@@ -91,16 +94,18 @@ void note_timbre(const measure_context *context, const frame_record *frames,
     weighted_hz += amplitude * n * note->f0_hz * ratio;
     if (n == 1) first = amplitude;
     else if (n <= 4) low_three += amplitude;
+    else upper += amplitude;
     /* Partials present in at least half the steady frames (as `partials`). */
     if (2 * s.found[k] >= s.frames) note->partial_cents[k] = (float)(1200.0 * log2(ratio));
   }
   note->odd_even_db = db_ratio(odd, even);
-  note->hnr_db = db_ratio(s.lobe_power, s.noise_power);
+  /* No measurable noise reads the ceiling, not infinity. */
+  note->hnr_db = db_ratio(s.lobe_power, fmax(s.noise_power, HNR_CEILING * s.lobe_power));
   if (amplitude_sum > 0.0) {
     note->centroid_hz = weighted_hz / amplitude_sum;
     note->tristimulus[0] = first / amplitude_sum;
     note->tristimulus[1] = low_three / amplitude_sum;
-    note->tristimulus[2] = 1.0 - note->tristimulus[0] - note->tristimulus[1];
+    note->tristimulus[2] = upper / amplitude_sum;
   }
 }
 

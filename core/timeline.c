@@ -3,6 +3,8 @@
 
 #include <math.h>
 
+#define BEAT_ROUNDING 0.0005 /* half the log's 0.001 beat */
+
 void timeline_reset(timeline_marks *marks) { marks->count = 0; }
 
 static bool beats_usable(const plumb_transport *t) {
@@ -29,6 +31,13 @@ static void beats_after(const plumb_transport *t, double seconds, double *bar,
   double whole_bars = floor(beats / t->beats_per_bar);
   *bar = whole_bars + 1.0;
   *beat = beats - whole_bars * t->beats_per_bar + 1.0;
+  /* Within half a thousandth of a beat of the bar line (the log's
+     resolution), the onset is on the next bar's first beat, not on a
+     beat the bar does not have. */
+  if (*beat >= t->beats_per_bar + 1.0 - BEAT_ROUNDING) {
+    *bar += 1.0;
+    *beat -= t->beats_per_bar;
+  }
 }
 
 void timeline_locate(const timeline_marks *marks, uint64_t sample, double sample_rate_hz,
