@@ -282,12 +282,21 @@ typedef struct {
   double noise_scale;        /* a partial's relative variance is this / (a^2 n^2) */
   double independent_frames; /* of the steady part */
   int partials;              /* found in at least half the steady frames */
+  /* Every frame's fundamental under the model, once computed: the note's
+     measures ask for it many times (partial_model_cache). */
+  const frame_record *cached_frames;
+  const double *cached_f0_hz;
+  int cached_count;
 } partial_model;
 
 partial_model partial_model_fit(const measure_context *context, const frame_record *frames,
                                 const steady_part *part);
 /* A frame's fundamental under the model. */
 double partial_model_f0_hz(const partial_model *model, const frame_record *frame);
+/* Compute it once for frames [0, count) into f0_hz (count doubles), which
+   partial_model_f0_hz then reads for them. */
+void partial_model_cache(partial_model *model, const frame_record *frames, int count,
+                         double *f0_hz);
 
 /* Onsets are placed where the level crosses this far below the attack's
    peak. Common practice, no source. */
@@ -298,7 +307,7 @@ double partial_model_f0_hz(const partial_model *model, const frame_record *frame
 double window_step_lead_s(double level_db, double frame_s);
 
 /* Measure one note from its frames and fill everything but index and
-   timeline_s. `scratch` holds at least 4 * count doubles, levels_db
+   timeline_s. `scratch` holds at least 5 * count doubles, levels_db
    count * PLUMB_ENVELOPE_STEPS floats. */
 void note_measure(const measure_context *context, const frame_record *frames,
                   int count, double *scratch, float *levels_db, plumb_note *note);

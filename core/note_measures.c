@@ -543,6 +543,7 @@ static bool measure_pitch(const measure_context *context, const frame_record *fr
     return false;
   }
   partial_model model = partial_model_fit(context, frames, &part);
+  partial_model_cache(&model, frames, count, scratch + 4 * count);
   note->inharmonicity_b = model.b;
   note->partials = model.partials > 0 ? model.partials : -1;
   double *cents = scratch;

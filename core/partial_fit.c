@@ -79,7 +79,7 @@ partial_model partial_model_fit(const measure_context *context, const frame_reco
                                 const steady_part *part) {
   ratio_sums s;
   sum_ratios(frames, part, &s);
-  partial_model model = {NAN, NAN, false, 0.0, 1.0, 0};
+  partial_model model = {NAN, NAN, false, 0.0, 1.0, 0, NULL, NULL, 0};
   for (int k = 0; k < PLUMB_FRAME_HARMONICS; ++k)
     model.partials += s.frames > 0 && 2 * s.found[k] >= s.frames;
   double sw = 0.0, sx = 0.0, sy = 0.0, sxx = 0.0, sxy = 0.0;
@@ -145,7 +145,7 @@ partial_model partial_model_fit(const measure_context *context, const frame_reco
   hardest (FluidR3's voice twins moved apart by 0.45 cent with 40 partials
   in the pitch, 0.27 with 16).
 */
-double partial_model_f0_hz(const partial_model *model, const frame_record *frame) {
+static double model_f0_hz(const partial_model *model, const frame_record *frame) {
   double b = model->stiff ? model->b : 0.0;
   bool uncertain = model->stiff && model->noise_scale > 0.0 && model->b_error > 0.0;
   double weighted = 0.0, total = 0.0;
@@ -161,4 +161,20 @@ double partial_model_f0_hz(const partial_model *model, const frame_record *frame
     total += w;
   }
   return total > 0.0 ? weighted / total : frame->f0_hz;
+}
+
+double partial_model_f0_hz(const partial_model *model, const frame_record *frame) {
+  if (model->cached_f0_hz && frame >= model->cached_frames &&
+      frame < model->cached_frames + model->cached_count)
+    return model->cached_f0_hz[frame - model->cached_frames];
+  return model_f0_hz(model, frame);
+}
+
+void partial_model_cache(partial_model *model, const frame_record *frames, int count,
+                         double *f0_hz) {
+  model->cached_f0_hz = NULL;
+  for (int i = 0; i < count; ++i) f0_hz[i] = model_f0_hz(model, &frames[i]);
+  model->cached_frames = frames;
+  model->cached_f0_hz = f0_hz;
+  model->cached_count = count;
 }

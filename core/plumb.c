@@ -77,7 +77,7 @@ static plumb_status allocate(plumb *self) {
   self->window = fftwf_alloc_real((size_t)self->fft_size);
   self->half_window = fftwf_alloc_real((size_t)self->fft_size / 2);
   if (!self->half_window) return PLUMB_ERR_MEMORY;
-  self->scratch = malloc(sizeof(double) * 4 * PLUMB_NOTE_FRAMES_MAX);
+  self->scratch = malloc(sizeof(double) * 5 * PLUMB_NOTE_FRAMES_MAX);
   self->levels_db = malloc(sizeof(float) * PLUMB_ENVELOPE_STEPS * PLUMB_NOTE_FRAMES_MAX);
   if (!self->window || !self->scratch || !self->levels_db) return PLUMB_ERR_MEMORY;
   for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) {

@@ -28,7 +28,7 @@ out=$build/bench
 take=$out/take.wav
 runs=${BENCH_RUNS:-3}
 failed=""
-tools="bench_take bench_core bench_fft bench_memory bench_accuracy bench_run bench_silence"
+tools="bench_take bench_core bench_fft bench_memory bench_accuracy bench_run bench_silence bench_longnote"
 
 # value KEY FILE: KEY=... from the file's "values:" lines.
 value() { sed -n "s/^values:.* $1=\([^ ]*\).*/\1/p" "$2" 2>/dev/null | tail -n 1; }
@@ -134,6 +134,10 @@ echo "== decay into silence: the cost of a 64-frame block (bench_silence)"
 step silence "$build/tools/bench_silence" "$build/plumb.lv2" "$((runs * 3))"
 echo
 
+echo "== completing a long note, 64-frame blocks (bench_longnote)"
+step longnote "$build/tools/bench_longnote" "$runs"
+echo
+
 echo "== memory per instance (bench_memory)"
 step memory "$build/tools/bench_memory" 8
 echo
@@ -203,6 +207,8 @@ for part in loud decay tail silence; do
   ratios="$ratios, $(per_loud plugin "$part" worst)"
   printf '%-34s %s; / loud: %s\n' "run(), 64 frames, $part" "$figures" "$ratios"
 done
+printf '%-34s %s\n' "completing a note of 2.5/5/10/20/40 s" \
+  "$(value note_25_s_us "$out/longnote.txt") / $(value note_50_s_us "$out/longnote.txt") / $(value note_100_s_us "$out/longnote.txt") / $(value note_200_s_us "$out/longnote.txt") / $(value note_400_s_us "$out/longnote.txt") us (budget $(value budget_us "$out/latency.txt") us)"
 tail_mean=$(ratio "$(silence core_tail_mean_us)" "$(silence core_ftz_tail_mean_us)")
 tail_worst=$(ratio "$(silence core_tail_worst_us)" "$(silence core_ftz_tail_worst_us)")
 printf '%-34s %s\n' "core tail, no FTZ/DAZ / FTZ+DAZ" "mean ${tail_mean}x, worst ${tail_worst}x"
