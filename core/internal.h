@@ -29,7 +29,7 @@
 #define PLUMB_SPECTRUM_RING (PLUMB_DECODE_LAG + 3)
 /* Frames one note keeps; a longer note is closed there and the sound goes
    on as a new note. */
-#define PLUMB_NOTE_FRAMES_MAX 4096
+#define PLUMB_NOTE_FRAMES_MAX 1024
 /* Completed notes waiting for the consumer. Power of two. */
 #define PLUMB_QUEUE_CAPACITY 256
 /* Bands of the onset detection function. */
