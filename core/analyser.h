@@ -29,7 +29,12 @@
 struct plumb {
   plumb_settings settings;
   int fft_size, hop, lag_min, lag_max;
-  /* input FIFO: the newest fft_size samples, `pending` of them new */
+  /* input FIFO: the newest fft_size samples, `pending` of them new, oldest
+     first, at `window`. They live in a mirrored ring of 2 fft_size floats
+     (each sample is written at i and i + fft_size), so that the window is
+     always contiguous and a hop moves a pointer, not the samples. */
+  float *window_store;
+  int window_base;
   float *window;
   int pending;
   uint64_t samples_in;

@@ -74,12 +74,13 @@ static plumb_status allocate(plumb *self) {
   if (status == PLUMB_OK) status = note_queue_init(&self->queue);
   if (status == PLUMB_OK) status = note_queue_init(&self->here_queue);
   if (status != PLUMB_OK) return status;
-  self->window = fftwf_alloc_real((size_t)self->fft_size);
+  self->window_store = fftwf_alloc_real(2 * (size_t)self->fft_size);
+  self->window = self->window_store;
   self->half_window = fftwf_alloc_real((size_t)self->fft_size / 2);
   if (!self->half_window) return PLUMB_ERR_MEMORY;
   self->scratch = malloc(sizeof(double) * 5 * PLUMB_NOTE_FRAMES_MAX);
   self->levels_db = malloc(sizeof(float) * PLUMB_ENVELOPE_STEPS * PLUMB_NOTE_FRAMES_MAX);
-  if (!self->window || !self->scratch || !self->levels_db) return PLUMB_ERR_MEMORY;
+  if (!self->window_store || !self->scratch || !self->levels_db) return PLUMB_ERR_MEMORY;
   for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) {
     self->spectra[i] = fftwf_alloc_complex((size_t)self->fft_size / 2 + 1);
     if (!self->spectra[i]) return PLUMB_ERR_MEMORY;
@@ -125,7 +126,7 @@ void plumb_free(plumb *self) {
   note_queue_destroy(&self->queue);
   note_queue_destroy(&self->here_queue);
   for (int i = 0; i < PLUMB_SPECTRUM_RING; ++i) fftwf_free(self->spectra[i]);
-  fftwf_free(self->window);
+  fftwf_free(self->window_store);
   fftwf_free(self->half_window);
   free(self->scratch);
   free(self->levels_db);
@@ -134,7 +135,9 @@ void plumb_free(plumb *self) {
 
 void plumb_reset(plumb *self) {
   if (!self) return;
-  memset(self->window, 0, sizeof(float) * (size_t)self->fft_size);
+  memset(self->window_store, 0, 2 * sizeof(float) * (size_t)self->fft_size);
+  self->window_base = 0;
+  self->window = self->window_store;
   memset(self->half_window, 0, sizeof(float) * (size_t)self->fft_size / 2);
   self->pending = 0;
   self->samples_in = 0;
@@ -168,22 +171,25 @@ void plumb_process(plumb *self, const float *samples, size_t n_frames) {
   while (i < n_frames) {
     size_t room = (size_t)(self->hop - self->pending);
     size_t take = n_frames - i < room ? n_frames - i : room;
-    float *destination = self->window + keep + self->pending;
-    for (size_t j = 0; j < take; ++j) {
+    const int n = self->fft_size;
+    int at = self->window_base + keep + self->pending; /* in [0, 2 n) */
+    for (size_t j = 0; j < take; ++j, ++at) {
       float x = samples[i + j];
       if (!isfinite(x)) {
         x = 0.0f; /* NaN and Inf never reach the analysis state */
         self->counts.bad_samples++;
       } else if (x > SAMPLE_LIMIT) x = SAMPLE_LIMIT;
       else if (x < -SAMPLE_LIMIT) x = -SAMPLE_LIMIT;
-      destination[j] = x;
+      self->window_store[at] = x;
+      self->window_store[at < n ? at + n : at - n] = x; /* the mirror */
     }
     self->pending += (int)take;
     self->samples_in += take;
     i += take;
     if (self->pending == self->hop) {
       analyser_process_hop(self);
-      memmove(self->window, self->window + self->hop, sizeof(float) * (size_t)keep);
+      self->window_base = (self->window_base + self->hop) % self->fft_size;
+      self->window = self->window_store + self->window_base;
       self->pending = 0;
     }
   }
