@@ -43,11 +43,10 @@
 
 BUILD_DIR=${1:?usage: sh tests/durable_logs.sh BUILD_DIR}
 ROOT=$(cd "$(dirname "$0")/.." && pwd) || exit 2
+. "$ROOT/tests/lib/checks.sh"
 PYTHON=/usr/bin/python3
 URI=urn:plumb:intonation
 
-passed=0
-failed=0
 WORK=$(mktemp -d "${TMPDIR:-/tmp}/plumb-durable.XXXXXX") || exit 2
 MOUNTED=""  # the tmpfs mount point, while mounted
 RUNNING=""  # background processes started here and not yet waited for
@@ -66,21 +65,6 @@ cleanup() {
 trap cleanup EXIT
 trap 'exit 130' INT TERM
 
-pass() { passed=$((passed + 1)); echo "ok - $1"; }
-fail() { failed=$((failed + 1)); echo "not ok - $1"; }
-
-# check NAME COMMAND...: ok when COMMAND succeeds; its output is shown
-# (indented) when it fails.
-check() {
-  check_name=$1
-  shift
-  if "$@" >"$WORK/why" 2>&1; then
-    pass "$check_name"
-  else
-    fail "$check_name"
-    sed 's/^/    # /' "$WORK/why"
-  fi
-}
 
 # rejects COMMAND...: succeeds when COMMAND fails (a checker shown a
 # damaged file must reject it).
@@ -91,11 +75,6 @@ rejects() {
   fi
 }
 
-finish() {
-  echo "$passed passed, $failed failed"
-  [ "$failed" -eq 0 ]
-  exit $?
-}
 
 # ------------------------------------------------------------ set-up
 

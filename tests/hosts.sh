@@ -24,46 +24,15 @@
 
 BUILD_DIR=${1:?usage: sh tests/hosts.sh BUILD_DIR}
 ROOT=$(cd "$(dirname "$0")/.." && pwd) || exit 2
+. "$ROOT/tests/lib/checks.sh"
 PYTHON=/usr/bin/python3
 URI=urn:plumb:intonation
 
-passed=0
-failed=0
 WORK=$(mktemp -d "${TMPDIR:-/tmp}/plumb-hosts.XXXXXX") || exit 2
 trap 'rm -rf "$WORK"' EXIT
 trap 'exit 130' INT TERM
 
-pass() { passed=$((passed + 1)); echo "ok - $1"; }
-fail() { failed=$((failed + 1)); echo "not ok - $1"; }
 
-# check NAME COMMAND...: ok when COMMAND succeeds; its output is shown
-# (indented) when it fails.
-check() {
-  check_name=$1
-  shift
-  if "$@" >"$WORK/why" 2>&1; then
-    pass "$check_name"
-  else
-    fail "$check_name"
-    sed 's/^/    # /' "$WORK/why"
-  fi
-}
-
-# exits_zero STATUS STDERR: the host's exit status was 0; else say which,
-# with what the host printed.
-exits_zero() {
-  if [ "$1" -ne 0 ]; then
-    echo "exit status $1; stderr:"
-    cat "$2"
-    return 1
-  fi
-}
-
-finish() {
-  echo "$passed passed, $failed failed"
-  [ "$failed" -eq 0 ]
-  exit $?
-}
 
 # ------------------------------------------------------------ the take
 

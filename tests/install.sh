@@ -35,12 +35,11 @@
 
 BUILD_ARG=${1:?usage: sh tests/install.sh BUILD_DIR}
 ROOT=$(cd "$(dirname "$0")/.." && pwd) || exit 2
+. "$ROOT/tests/lib/checks.sh"
 BUILD=$(cd "$BUILD_ARG" && pwd) || exit 2
 PYTHON=/usr/bin/python3
 URI=urn:plumb:intonation
 
-passed=0
-failed=0
 WORK=$(mktemp -d "${TMPDIR:-/tmp}/plumb-install.XXXXXX") || exit 2
 jackd_pid=""
 cleanup() {
@@ -53,27 +52,7 @@ cleanup() {
 trap cleanup EXIT
 trap 'exit 130' INT TERM
 
-pass() { passed=$((passed + 1)); echo "ok - $1"; }
-fail() { failed=$((failed + 1)); echo "not ok - $1"; }
 
-# check NAME COMMAND...: ok when COMMAND succeeds; its output is shown
-# (indented) when it fails.
-check() {
-  check_name=$1
-  shift
-  if "$@" >"$WORK/why" 2>&1; then
-    pass "$check_name"
-  else
-    fail "$check_name"
-    sed 's/^/    # /' "$WORK/why"
-  fi
-}
-
-finish() {
-  echo "$passed passed, $failed failed"
-  [ "$failed" -eq 0 ]
-  exit $?
-}
 
 # ------------------------------------------------------------ TTL facts
 

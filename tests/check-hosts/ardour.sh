@@ -38,6 +38,7 @@
 BUILD_DIR=${1:?usage: sh tests/check-hosts/ardour.sh BUILD_DIR}
 HERE=$(cd "$(dirname "$0")" && pwd) || exit 2
 ROOT=$(cd "$HERE/../.." && pwd) || exit 2
+. "$ROOT/tests/lib/checks.sh"
 BUNDLE=$(cd "$BUILD_DIR/plumb.lv2" 2>/dev/null && pwd)
 PYTHON=/usr/bin/python3
 ARDOUR_TIMEOUT_S=60 # a run takes about 5 s; then TERM, and KILL 10 s later
@@ -45,31 +46,9 @@ EXPORT_TRIES=3
 LABEL="Harbour take 7/é" # as in lv2/plumb-check-label.lv2/take-label.ttl
 NAME=harbour             # the session's name
 
-passed=0
-failed=0
-pass() { passed=$((passed + 1)); echo "ok - $1"; }
-fail() { failed=$((failed + 1)); echo "not ok - $1"; }
-finish() {
-  echo "$passed passed, $failed failed"
-  [ "$failed" -eq 0 ]
-  exit $?
-}
 
 # logs_check ARGS...: the checks of ardour_logs.py (see there).
 logs_check() { "$PYTHON" "$HERE/ardour_logs.py" "$@"; }
-
-# check NAME COMMAND...: ok when COMMAND succeeds; its output is shown
-# (indented) when it fails.
-check() {
-  check_name=$1
-  shift
-  if "$@" >"$WORK/why" 2>&1; then
-    pass "$check_name"
-  else
-    fail "$check_name"
-    sed 's/^/    # /' "$WORK/why"
-  fi
-}
 
 # ------------------------------------------------------------ set-up
 
