@@ -339,6 +339,7 @@ typedef struct {
   int count;               /* frames in the current note */
   double reference_midi;   /* the note's running pitch (NaN before) */
   double reference_values[PLUMB_REFERENCE_FRAMES]; /* newest voiced frames */
+  double reference_sorted[PLUMB_REFERENCE_FRAMES]; /* the same, in order */
   int reference_n;         /* frames taken since the reference started */
   int unvoiced_run;
   int quiet_run;

@@ -118,10 +118,19 @@ static void close_note(note_tracker *tracker, int count, note_sink sink,
   tracker->active = kept > 0;
 }
 
-/* The mean of values with the highest and lowest sixth left out: vibrato
-   over whole cycles averages out of it (a median of a sinusoid over a
-   cycle and a bit sits off its centre), and a stray frame cannot move it.
-   Sorts values in place (n is at most PLUMB_REFERENCE_FRAMES). */
+/* The mean of sorted values with the highest and lowest sixth left out:
+   vibrato over whole cycles averages out of it (a median of a sinusoid
+   over a cycle and a bit sits off its centre), and a stray frame cannot
+   move it. */
+static double sorted_trimmed_mean(const double *values, int n) {
+  int cut = n / 6;
+  double sum = 0.0;
+  for (int i = cut; i < n - cut; ++i) sum += values[i];
+  return sum / (n - 2 * cut);
+}
+
+/* The same of unsorted values, which it sorts in place (n is at most
+   PLUMB_REFERENCE_FRAMES). */
 static double trimmed_mean(double *values, int n) {
   for (int i = 1; i < n; ++i)
     for (int j = i; j > 0 && values[j - 1] > values[j]; --j) {
@@ -129,22 +138,40 @@ static double trimmed_mean(double *values, int n) {
       values[j] = values[j - 1];
       values[j - 1] = t;
     }
-  int cut = n / 6;
-  double sum = 0.0;
-  for (int i = cut; i < n - cut; ++i) sum += values[i];
-  return sum / (n - 2 * cut);
+  return sorted_trimmed_mean(values, n);
+}
+
+/* Keep reference_sorted in order as one value leaves and one comes: O(n)
+   instead of a sort. */
+static void sorted_replace(double *sorted, int n, bool leaving, double old, double value) {
+  int count = n;
+  if (leaving) {
+    int at = 0;
+    while (at < count && sorted[at] != old) ++at;
+    if (at < count) {
+      memmove(sorted + at, sorted + at + 1, sizeof(double) * (size_t)(count - at - 1));
+      count--;
+    }
+  }
+  int at = count;
+  while (at > 0 && sorted[at - 1] > value) {
+    sorted[at] = sorted[at - 1];
+    --at;
+  }
+  sorted[at] = value;
 }
 
 /* The reference is the trimmed mean of the newest voiced frames, so that a
    stray frame (an octave slip in an attack) cannot move it. */
 static void add_reference(note_tracker *tracker, double midi) {
-  tracker->reference_values[tracker->reference_n % PLUMB_REFERENCE_FRAMES] = midi;
+  int slot = tracker->reference_n % PLUMB_REFERENCE_FRAMES;
+  bool full = tracker->reference_n >= PLUMB_REFERENCE_FRAMES;
+  int before = full ? PLUMB_REFERENCE_FRAMES : tracker->reference_n;
+  sorted_replace(tracker->reference_sorted, before, full, tracker->reference_values[slot], midi);
+  tracker->reference_values[slot] = midi;
   tracker->reference_n++;
-  int kept = tracker->reference_n < PLUMB_REFERENCE_FRAMES ? tracker->reference_n
-                                                           : PLUMB_REFERENCE_FRAMES;
-  double sorted[PLUMB_REFERENCE_FRAMES];
-  memcpy(sorted, tracker->reference_values, sizeof(double) * (size_t)kept);
-  tracker->reference_midi = trimmed_mean(sorted, kept);
+  int kept = full ? PLUMB_REFERENCE_FRAMES : tracker->reference_n;
+  tracker->reference_midi = sorted_trimmed_mean(tracker->reference_sorted, kept);
 }
 
 static void rebuild_reference(note_tracker *tracker, int from) {
