@@ -65,7 +65,6 @@ cleanup() {
 trap cleanup EXIT
 trap 'exit 130' INT TERM
 
-
 # rejects COMMAND...: succeeds when COMMAND fails (a checker shown a
 # damaged file must reject it).
 rejects() {
@@ -75,32 +74,14 @@ rejects() {
   fi
 }
 
-
 # ------------------------------------------------------------ set-up
 
-PLUMB=$BUILD_DIR/plumb
-BUNDLE=$BUILD_DIR/plumb.lv2
-missing=""
-[ -f "$BUNDLE/plumb.so" ] || missing="$missing $BUNDLE/plumb.so (make all)"
-[ -x "$PLUMB" ] || missing="$missing $PLUMB (make all)"
-command -v lv2file >/dev/null 2>&1 ||
-  missing="$missing lv2file (apt-get install lv2file)"
-"$PYTHON" -c 'import numpy, scipy' 2>/dev/null ||
-  missing="$missing $PYTHON with numpy and scipy (python3-numpy, python3-scipy)"
-if [ -n "$missing" ]; then
-  fail "durable logs: missing:$missing"
-  finish
-fi
+require_lv2file_hosts "durable logs" "$BUILD_DIR"
 PLUMB_REAL=$(readlink -f "$PLUMB")
 
-# LV2_PATH names folders that hold bundles: one holding only a link to
-# this build's bundle.
-mkdir "$WORK/lv2" && ln -s "$(cd "$BUNDLE" && pwd)" "$WORK/lv2/plumb.lv2" ||
-  exit 2
+link_bundle
 
-# The notes.csv columns as docs/log-format.md lists them, comma-joined.
-HEADER=$(sed -n '/^## notes\.csv/,/^### /s/^| `\([a-z0-9_]*\)` |.*/\1/p' \
-  "$ROOT/docs/log-format.md" | paste -s -d , -)
+HEADER=$(documented_header)
 if [ -z "$HEADER" ]; then
   fail "durable logs: no columns found in $ROOT/docs/log-format.md"
   finish

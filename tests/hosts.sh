@@ -73,11 +73,6 @@ EOF
 
 # ------------------------------------------------------------ helpers
 
-# The notes.csv columns as docs/log-format.md lists them, comma-joined.
-documented_header() {
-  sed -n '/^## notes\.csv/,/^### /s/^| `\([a-z0-9_]*\)` |.*/\1/p' \
-    "$ROOT/docs/log-format.md" | paste -s -d , -
-}
 
 # same_audio IN OUT: equal rate, length and every sample, bit for bit
 # (both float: the plugin copies the samples, so nothing may round).
@@ -189,25 +184,9 @@ one_plumb_line() {
 
 # ------------------------------------------------------------ set-up
 
-PLUMB=$BUILD_DIR/plumb
-BUNDLE=$BUILD_DIR/plumb.lv2
-missing=""
-[ -f "$BUNDLE/plumb.so" ] || missing="$missing $BUNDLE/plumb.so (make all)"
-[ -x "$PLUMB" ] || missing="$missing $PLUMB (make all)"
-command -v lv2file >/dev/null 2>&1 ||
-  missing="$missing lv2file (apt-get install lv2file)"
-"$PYTHON" -c 'import numpy, scipy' 2>/dev/null ||
-  missing="$missing $PYTHON with numpy and scipy (python3-numpy, python3-scipy)"
-if [ -n "$missing" ]; then
-  fail "hosts: missing:$missing"
-  finish
-fi
+require_lv2file_hosts hosts "$BUILD_DIR"
 
-# LV2_PATH names folders that hold bundles (HOSTS.md). A folder holding
-# only a link to this build's bundle, so lilv reads no other folder of
-# BUILD_DIR as a bundle and no installed plumb is picked up.
-mkdir "$WORK/lv2" && ln -s "$(cd "$BUNDLE" && pwd)" "$WORK/lv2/plumb.lv2" ||
-  exit 2
+link_bundle
 TAKE=$WORK/take.wav
 TRUTH=$WORK/truth.txt
 if ! make_take "$TAKE" "$TRUTH"; then

@@ -37,3 +37,37 @@ finish() {
   [ "$failed" -eq 0 ]
   exit $?
 }
+
+# documented_header: the notes.csv columns as docs/log-format.md lists
+# them, comma-joined (ROOT is the project's top folder).
+documented_header() {
+  sed -n '/^## notes\.csv/,/^### /s/^| `\([a-z0-9_]*\)` |.*/\1/p' \
+    "$ROOT/docs/log-format.md" | paste -s -d , -
+}
+
+# require_lv2file_hosts LABEL BUILD_DIR: the built command and bundle,
+# lv2file, and $PYTHON with numpy and scipy, or one failed check naming
+# what is missing and the end of the test. Sets PLUMB and BUNDLE.
+require_lv2file_hosts() {
+  PLUMB=$2/plumb
+  BUNDLE=$2/plumb.lv2
+  missing=""
+  [ -f "$BUNDLE/plumb.so" ] || missing="$missing $BUNDLE/plumb.so (make all)"
+  [ -x "$PLUMB" ] || missing="$missing $PLUMB (make all)"
+  command -v lv2file >/dev/null 2>&1 ||
+    missing="$missing lv2file (apt-get install lv2file)"
+  "$PYTHON" -c 'import numpy, scipy' 2>/dev/null ||
+    missing="$missing $PYTHON with numpy and scipy (python3-numpy, python3-scipy)"
+  if [ -n "$missing" ]; then
+    fail "$1: missing:$missing"
+    finish
+  fi
+}
+
+# link_bundle: $WORK/lv2, for LV2_PATH, which names folders that hold
+# bundles (HOSTS.md): a folder holding only a link to this build's bundle,
+# so lilv reads no other folder of the build as a bundle and no installed
+# plumb is picked up.
+link_bundle() {
+  mkdir "$WORK/lv2" && ln -s "$(cd "$BUNDLE" && pwd)" "$WORK/lv2/plumb.lv2" || exit 2
+}
