@@ -19,6 +19,7 @@
   The file is read into memory (first channel) before any timing starts.
   Lines starting "values:" are for tools/bench.sh.
 */
+#include "bench_stats.h"
 #include <math.h>
 #include <sndfile.h>
 #include <stdio.h>
@@ -142,19 +143,6 @@ static int command_speed(const audio *take, int runs) {
   return 0;
 }
 
-static int compare_float(const void *a, const void *b) {
-  float x = *(const float *)a, y = *(const float *)b;
-  return (x > y) - (x < y);
-}
-
-/* Linear interpolation between order statistics; sorted[] ascending. */
-static double percentile(const float *sorted, size_t n, double p) {
-  double position = p / 100.0 * (double)(n - 1);
-  size_t below = (size_t)position;
-  if (below + 1 >= n) return sorted[n - 1];
-  double fraction = position - (double)below;
-  return sorted[below] + fraction * (sorted[below + 1] - sorted[below]);
-}
 
 typedef struct {
   double median_us, p99_us, p999_us, max_us, worst_at_s;
@@ -172,10 +160,10 @@ static void summarise_calls(float *call_us, size_t calls, double budget_us,
   }
   run->calls = calls;
   run->worst_at_s = (double)(worst * LATENCY_BLOCK_FRAMES) / sample_rate_hz;
-  qsort(call_us, calls, sizeof *call_us, compare_float);
-  run->median_us = percentile(call_us, calls, 50.0);
-  run->p99_us = percentile(call_us, calls, 99.0);
-  run->p999_us = percentile(call_us, calls, 99.9);
+  qsort(call_us, calls, sizeof *call_us, bench_compare_float);
+  run->median_us = bench_percentile(call_us, calls, 50.0);
+  run->p99_us = bench_percentile(call_us, calls, 99.0);
+  run->p999_us = bench_percentile(call_us, calls, 99.9);
   run->max_us = call_us[calls - 1];
 }
 

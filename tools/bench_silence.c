@@ -32,6 +32,7 @@
     silence  10 s of exact zeros.
   Lines starting "values:" are for tools/bench.sh.
 */
+#include "bench_stats.h"
 #include <dlfcn.h>
 #include <float.h>
 #include <math.h>
@@ -272,19 +273,6 @@ typedef struct {
   double median_us, mean_us, p99_us, worst_us, worst_at_s;
 } part_stats;
 
-static int compare_float(const void *a, const void *b) {
-  float x = *(const float *)a, y = *(const float *)b;
-  return (x > y) - (x < y);
-}
-
-/* Linear between order statistics, as bench_core; sorted ascending. */
-static double percentile(const float *sorted, size_t n, double p) {
-  double position = p / 100.0 * (double)(n - 1);
-  size_t below = (size_t)position;
-  if (below + 1 >= n) return sorted[n - 1];
-  double fraction = position - (double)below;
-  return sorted[below] + fraction * (sorted[below + 1] - sorted[below]);
-}
 
 static part_stats summarise(const float *floor_us, size_t first, size_t end, float *scratch) {
   size_t n = end - first;
@@ -297,10 +285,10 @@ static part_stats summarise(const float *floor_us, size_t first, size_t end, flo
     if (floor_us[first + i] > floor_us[worst]) worst = first + i;
   }
   stats.worst_at_s = (double)(worst * BLOCK_FRAMES) / SAMPLE_RATE_HZ;
-  qsort(scratch, n, sizeof *scratch, compare_float);
-  stats.median_us = percentile(scratch, n, 50.0);
+  qsort(scratch, n, sizeof *scratch, bench_compare_float);
+  stats.median_us = bench_percentile(scratch, n, 50.0);
   stats.mean_us = sum_us / (double)n;
-  stats.p99_us = percentile(scratch, n, 99.0);
+  stats.p99_us = bench_percentile(scratch, n, 99.0);
   stats.worst_us = scratch[n - 1];
   return stats;
 }
