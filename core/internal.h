@@ -9,6 +9,7 @@
 #include "plumb.h"
 
 #include <fftw3.h>
+#include <math.h>
 
 /* At most this many pitch candidates (YIN troughs) per frame. */
 #define PLUMB_CANDIDATES_MAX 8
@@ -203,6 +204,18 @@ typedef struct {
   double band_power;
   int band_bins;
 } harmonic_fit;
+
+/* The bins of a band low_hz … high_hz, cut to the bins that have both
+   neighbours (1 … fft_size / 2 - 1): at a low sample rate a band limit
+   in Hz can lie past Nyquist. False when the band holds no bin. */
+static inline bool band_bins(double low_hz, double high_hz, double bin_hz, int fft_size,
+                             int *first, int *last) {
+  double first_bin = ceil(low_hz / bin_hz), last_bin = floor(high_hz / bin_hz);
+  double top = fft_size / 2 - 1;
+  *first = first_bin < 1.0 ? 1 : first_bin > top ? (int)top : (int)first_bin;
+  *last = last_bin > top ? (int)top : last_bin < 1.0 ? 1 : (int)last_bin;
+  return *first <= *last && first_bin <= last_bin;
+}
 
 /* |X_k|^2 */
 static inline double bin_power(const fftwf_complex *bins, int k) {

@@ -38,10 +38,8 @@ int spectrum_strong_peaks(const fftwf_complex *current, const fftwf_complex *pre
                           double high_hz, double noise_power, spectral_peak *peaks,
                           int max_peaks) {
   const double bin_hz = sample_rate_hz / fft_size;
-  int first = (int)ceil(low_hz / bin_hz), last = (int)floor(high_hz / bin_hz);
-  if (first < 1) first = 1;
-  if (last > fft_size / 2 - 1) last = fft_size / 2 - 1;
-  if (last <= first) return 0;
+  int first, last;
+  if (!band_bins(low_hz, high_hz, bin_hz, fft_size, &first, &last) || last <= first) return 0;
   double floor_power = PLUMB_ABOVE_NOISE * noise_power;
   double strongest = 0.0;
   for (int k = first; k <= last; ++k) {

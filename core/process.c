@@ -137,9 +137,12 @@ static void decide_frame(plumb *self, frame_record *record) {
   if (frame == 0 || record->level_dbfs < SEARCH_GATE_DBFS) return;
   const fftwf_complex *previous = self->spectra[ring_slot(frame - 1)];
   const double bin_hz = self->settings.sample_rate_hz / self->fft_size;
-  double noise_power = spectrum_noise_floor(self->spectra[slot],
-                                            (int)ceil(PEAK_SEARCH_LOW_HZ / bin_hz),
-                                            (int)floor(PEAK_SEARCH_HIGH_HZ / bin_hz));
+  int first_bin, last_bin;
+  double noise_power =
+      band_bins(PEAK_SEARCH_LOW_HZ, PEAK_SEARCH_HIGH_HZ, bin_hz, self->fft_size, &first_bin,
+                &last_bin)
+          ? spectrum_noise_floor(self->spectra[slot], first_bin, last_bin)
+          : 0.0;
   record->peak_count = spectrum_strong_peaks(
       self->spectra[slot], previous, self->fft_size, self->hop, self->settings.sample_rate_hz,
       PEAK_SEARCH_LOW_HZ, PEAK_SEARCH_HIGH_HZ, noise_power, record->peaks, PLUMB_FRAME_PEAKS);
