@@ -1,5 +1,6 @@
 #include "audio_file.h"
 
+#include <errno.h>
 #include <pthread.h>
 #include <stdio.h>
 #include <string.h>
@@ -15,8 +16,16 @@ SNDFILE *audio_file_open(const char *path, SF_INFO *info, char *reason,
   memset(info, 0, sizeof *info);
   /* libsndfile calls a folder an unknown format, which misleads. */
   struct stat status;
-  if (stat(path, &status) == 0 && S_ISDIR(status.st_mode)) {
+  if (stat(path, &status) != 0) {
+    snprintf(reason, size, "%s", strerror(errno));
+    return NULL;
+  }
+  if (S_ISDIR(status.st_mode)) {
     snprintf(reason, size, "is a folder, not an audio file");
+    return NULL;
+  }
+  if (!S_ISREG(status.st_mode)) {
+    snprintf(reason, size, "is a device or other special file, not an audio file");
     return NULL;
   }
   pthread_mutex_lock(&open_mutex);
@@ -33,4 +42,20 @@ SNDFILE *audio_file_open(const char *path, SF_INFO *info, char *reason,
     return NULL;
   }
   return file;
+}
+
+/* libsndfile notes such a chunk in its log as "data : N (should be M)". */
+bool audio_file_header_disagrees(SNDFILE *file) {
+  char log[8192];
+  sf_command(file, SFC_GET_LOG_INFO, log, sizeof log);
+  log[sizeof log - 1] = '\0';
+  for (const char *line = log; line && *line; line = strchr(line, '\n')) {
+    line += *line == '\n';
+    if (strncmp(line, "data", 4) == 0) {
+      const char *end = strchr(line, '\n');
+      const char *should = strstr(line, "(should be");
+      return should && (!end || should < end);
+    }
+  }
+  return false;
 }

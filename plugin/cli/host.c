@@ -203,7 +203,7 @@ static bool run_blocks(track_run *run, SNDFILE *file, int channels) {
     count_frames(run, (uint64_t)frames);
   }
   if (sf_error(file) != SF_ERR_NO_ERROR) {
-    console_error("%s: reading stopped early: %s", run->track->path,
+    console_error("%s: reading stopped early: %s", run->track->name,
                   sf_strerror(file));
     return false;
   }
@@ -221,7 +221,15 @@ static bool log_is_ok(const track_run *run) {
   return true;
 }
 
-static bool analyse(track_run *run, SNDFILE *file, const SF_INFO *info) {
+/* The plugin's "notes" counter after the last run, or -1. */
+static long notes_counted(const track_run *run) {
+  int index = port_layout_find(run->context->layout, "notes");
+  float value = index >= 0 ? run->controls[index] : -1.0f;
+  return value >= 0.0f && value < 1e9f ? (long)value : -1;
+}
+
+static bool analyse(track_run *run, SNDFILE *file, const SF_INFO *info,
+                    host_outcome *outcome) {
   if (!buffers_new(run, info->channels)) {
     console_error("%s: out of memory", run->track->label);
     return false;
@@ -235,11 +243,17 @@ static bool analyse(track_run *run, SNDFILE *file, const SF_INFO *info) {
   lilv_instance_activate(run->instance);
   bool ok = run_blocks(run, file, info->channels);
   ok = log_is_ok(run) && ok;
+  /* Notes completed by the last run; deactivation may complete one more,
+     which the ports no longer show. */
+  outcome->ran = true;
+  outcome->notes = notes_counted(run);
   lilv_instance_deactivate(run->instance);
   return ok;
 }
 
-bool host_run_track(const host_context *context, const host_track *track) {
+bool host_run_track(const host_context *context, const host_track *track,
+                    host_outcome *outcome) {
+  *outcome = (host_outcome){false, -1};
   track_run run;
   memset(&run, 0, sizeof run);
   run.context = context;
@@ -249,12 +263,12 @@ bool host_run_track(const host_context *context, const host_track *track) {
   SNDFILE *file = audio_file_open(track->path, &info, reason, sizeof reason);
   bool ok = false;
   if (!file) {
-    console_error("%s: %s", track->path, reason);
+    console_error("%s: %s", track->name, reason);
   } else if (track->channel >= info.channels) {
-    console_error("%s: has %d channels now, no channel %d", track->path,
+    console_error("%s: has %d channels now, no channel %d", track->name,
                   info.channels, track->channel + 1);
   } else {
-    ok = analyse(&run, file, &info);
+    ok = analyse(&run, file, &info, outcome);
   }
   free_instance(&run);
   buffers_free(&run);

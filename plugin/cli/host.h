@@ -29,15 +29,26 @@ typedef struct {
 } host_context;
 
 typedef struct {
-  const char *path;
-  int channel;     /* 0 = the first */
+  const char *name; /* the take as given: a path, or "-" */
+  const char *path; /* what to open: the path, or a stream's copy */
+  int channel;      /* 0 = the first */
   char label[256]; /* the log's stem: <stem> or <stem>-ch<N> */
   uint64_t frames; /* from the first look at the file, for progress */
 } host_track;
 
+/* What a track's run left behind, read from the plugin's output ports
+   after its last block. */
+typedef struct {
+  bool ran;      /* the audio went through the plugin */
+  long notes;    /* the plugin's "notes" counter after the last run (the
+                    note that deactivation completes is not in it); -1
+                    when unknown */
+} host_outcome;
+
 /* Runs one track (any thread). Returns false after reporting what went
    wrong: the file could not be read, the plugin would not start, or it
    could not write its log. */
-bool host_run_track(const host_context *context, const host_track *track);
+bool host_run_track(const host_context *context, const host_track *track,
+                    host_outcome *outcome);
 
 #endif

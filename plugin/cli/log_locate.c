@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #define SUFFIXES_TRIED 16
@@ -22,7 +23,15 @@ static long run_json_process(const char *path) {
   return key ? strtol(key + strlen("\"process_id\":"), NULL, 10) : -1;
 }
 
-bool log_locate(const char *folder, const char *label, char *path, size_t size) {
+static bool written_since(const char *path, struct timespec since) {
+  struct stat status;
+  if (stat(path, &status) != 0) return false;
+  return status.st_mtim.tv_sec > since.tv_sec ||
+         (status.st_mtim.tv_sec == since.tv_sec && status.st_mtim.tv_nsec >= since.tv_nsec);
+}
+
+bool log_locate(const char *folder, const char *label, struct timespec since, char *path,
+                size_t size) {
   char stem[PLUMB_LOG_STEM_MAX + 1];
   plumb_log_stem(label, stem);
   long own = (long)getpid();
@@ -33,11 +42,9 @@ bool log_locate(const char *folder, const char *label, char *path, size_t size) 
     char run_json[4096];
     int length = snprintf(run_json, sizeof run_json, "%s/%s.run.json", folder, candidate);
     if (length < 0 || (size_t)length >= sizeof run_json) break;
-    if (run_json_process(run_json) != own) continue;
+    if (run_json_process(run_json) != own || !written_since(run_json, since)) continue;
     length = snprintf(path, size, "%s/%s.notes.csv", folder, candidate);
     return length >= 0 && (size_t)length < size;
   }
-  int length = snprintf(path, size, "%s/%s.notes.csv", folder, stem);
-  (void)length;
   return false;
 }

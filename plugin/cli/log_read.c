@@ -1,55 +1,84 @@
 /*
   CSV as RFC 4180 has it: commas between fields; a field in double quotes
   may hold commas, doubled quotes and line breaks; CRLF or LF ends a row.
-  The text is split in place: unquoting only ever shortens a field, so the
-  write position never passes the read position.
+  A row is read whole (its line breaks inside quotes included), then split
+  in place: unquoting only ever shortens a field, so the write position
+  never passes the read position.
 */
 #include "log_read.h"
 
 #include <errno.h>
 #include <math.h>
-#include <stdio.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
-/* Reads the whole file, NUL-terminated. */
-static char *read_file(const char *path, char *reason, size_t reason_size) {
-  FILE *file = fopen(path, "rb");
-  if (!file) {
-    snprintf(reason, reason_size, "%s", strerror(errno));
-    return NULL;
+/* A row longer than this is not a notes log (a row is about 1 KB). */
+#define ROW_MAX_BYTES (16u << 20)
+
+typedef enum { ROW_READ, ROW_END, ROW_PARTIAL, ROW_FAILED } row_status;
+
+static bool grow(char **text, size_t *capacity, size_t needed) {
+  if (needed <= *capacity) {
+    return true;
   }
-  size_t size = 0;
-  size_t capacity = 65536;
-  char *text = malloc(capacity);
-  while (text) {
-    size += fread(text + size, 1, capacity - size - 1, file);
-    if (size < capacity - 1 || ferror(file)) {
+  size_t wanted = *capacity ? 2 * *capacity : 4096;
+  while (wanted < needed) {
+    wanted *= 2;
+  }
+  char *grown = realloc(*text, wanted);
+  if (!grown) {
+    return false;
+  }
+  *text = grown;
+  *capacity = wanted;
+  return true;
+}
+
+static row_status fail(note_log *log, const char *reason) {
+  log->failed = true;
+  snprintf(log->reason, sizeof log->reason, "%s", reason);
+  return ROW_FAILED;
+}
+
+/* Reads one row's text, up to its line break outside quotes, into
+   *text (NUL-terminated, without the line break). */
+static row_status read_row_text(note_log *log, char **text, size_t *capacity) {
+  size_t length = 0;
+  bool quoted = false;
+  for (;;) {
+    int c = getc(log->file);
+    if (c == EOF) {
+      if (ferror(log->file)) {
+        return fail(log, strerror(errno));
+      }
+      return length == 0 ? ROW_END : ROW_PARTIAL;
+    }
+    if (c == '\n' && !quoted) {
       break;
     }
-    capacity *= 2;
-    char *grown = realloc(text, capacity);
-    if (!grown) {
-      free(text);
+    quoted = c == '"' ? !quoted : quoted;
+    if (length + 2 > ROW_MAX_BYTES) {
+      return fail(log, "a row is longer than 16 MB: not a notes log");
     }
-    text = grown;
+    if (!grow(text, capacity, length + 2)) {
+      return fail(log, "out of memory");
+    }
+    (*text)[length++] = (char)c;
   }
-  bool failed = !text || ferror(file);
-  int read_errno = errno;
-  fclose(file);
-  if (failed) {
-    snprintf(reason, reason_size, "%s",
-             text ? strerror(read_errno) : "out of memory");
-    free(text);
-    return NULL;
+  if (length > 0 && (*text)[length - 1] == '\r') {
+    --length;
   }
-  text[size] = '\0';
-  return text;
+  if (!grow(text, capacity, length + 1)) {
+    return fail(log, "out of memory");
+  }
+  (*text)[length] = '\0';
+  return ROW_READ;
 }
 
 /* Splits one field at *cursor in place. Returns the field and leaves
-   *cursor after its separator; *row_ended says whether a line break (or
-   the end of the text) came after it. */
+   *cursor after its separator; *row_ended says whether the row's end came
+   after it. */
 static char *split_field(char **cursor, bool *row_ended) {
   char *read = *cursor;
   char *write = read;
@@ -62,9 +91,9 @@ static char *split_field(char **cursor, bool *row_ended) {
       ++read;
     } else if (quoted && *read == '"') {
       quoted = false;
-    } else if (*read == '\0' || (!quoted && (*read == ',' || *read == '\n'))) {
+    } else if (*read == '\0' || (!quoted && *read == ',')) {
       break;
-    } else if (quoted || !(*read == '\r' && read[1] == '\n')) {
+    } else {
       *write++ = *read;
     }
   }
@@ -74,110 +103,112 @@ static char *split_field(char **cursor, bool *row_ended) {
   return field;
 }
 
-/* Splits the row at *cursor into row->fields. False when out of memory. */
-static bool split_row(char **cursor, note_log_row *row) {
-  size_t capacity = 32;
+/* Splits the row text into row->fields. False when out of memory. */
+static bool split_row(char *text, note_log_row *row) {
   row->count = 0;
-  row->fields = malloc(capacity * sizeof *row->fields);
   bool row_ended = false;
-  while (row->fields && !row_ended) {
-    if (row->count == capacity) {
-      capacity *= 2;
-      const char **grown = realloc(row->fields, capacity * sizeof *grown);
-      if (!grown) {
-        free(row->fields);
-      }
-      row->fields = grown;
-      if (!grown) {
-        break;
-      }
-    }
-    row->fields[row->count++] = split_field(cursor, &row_ended);
-  }
-  return row->fields != NULL;
-}
-
-static bool is_blank(const note_log_row *row) {
-  return row->count == 1 && row->fields[0][0] == '\0';
-}
-
-/* Splits every row after the header. */
-static bool split_rows(char *cursor, note_log *log) {
-  size_t capacity = 0;
-  while (*cursor) {
-    if (log->row_count == capacity) {
-      capacity = capacity ? 2 * capacity : 256;
-      note_log_row *grown = realloc(log->rows, capacity * sizeof *grown);
+  while (!row_ended) {
+    if (row->count == row->capacity) {
+      size_t wanted = row->capacity ? 2 * row->capacity : 32;
+      const char **grown = realloc(row->fields, wanted * sizeof *grown);
       if (!grown) {
         return false;
       }
-      log->rows = grown;
+      row->fields = grown;
+      row->capacity = wanted;
     }
-    note_log_row *row = &log->rows[log->row_count];
-    if (!split_row(&cursor, row)) {
-      return false;
-    }
-    if (is_blank(row)) {
-      free(row->fields);
-    } else {
-      log->row_count += 1;
-    }
+    row->fields[row->count++] = split_field(&text, &row_ended);
   }
   return true;
 }
 
-bool note_log_read(const char *path, note_log *log, char *reason,
+bool note_log_open(const char *path, note_log *log, char *reason,
                    size_t reason_size) {
   memset(log, 0, sizeof *log);
-  log->text = read_file(path, reason, reason_size);
-  if (!log->text) {
+  log->file = fopen(path, "rb");
+  if (!log->file) {
+    snprintf(reason, reason_size, "%s", strerror(errno));
     return false;
   }
-  char *cursor = log->text;
-  if (*cursor == '\0') {
-    snprintf(reason, reason_size, "is empty: no header row");
-    note_log_free(log);
-    return false;
-  }
-  if (!split_row(&cursor, &log->header) || !split_rows(cursor, log)) {
+  size_t capacity = 0;
+  row_status status = read_row_text(log, &log->header_text, &capacity);
+  if (status == ROW_FAILED) {
+    snprintf(reason, reason_size, "%s", log->reason);
+  } else if (status != ROW_READ) {
+    snprintf(reason, reason_size, "is empty or cut off: no whole header row");
+  } else if (!split_row(log->header_text, &log->header)) {
     snprintf(reason, reason_size, "out of memory");
-    note_log_free(log);
-    return false;
+  } else {
+    return true;
   }
-  return true;
+  note_log_close(log);
+  return false;
 }
 
-void note_log_free(note_log *log) {
-  for (size_t i = 0; i < log->row_count; ++i) {
-    free(log->rows[i].fields);
+bool note_log_next(note_log *log) {
+  if (!log->file || log->failed) {
+    return false;
   }
-  free(log->rows);
+  for (;;) {
+    row_status status =
+        read_row_text(log, &log->row_text, &log->row_capacity);
+    if (status == ROW_PARTIAL) {
+      log->partial_row = true;
+    }
+    if (status != ROW_READ) {
+      return false;
+    }
+    if (log->row_text[0] == '\0') {
+      continue; /* a blank line */
+    }
+    if (!split_row(log->row_text, &log->row)) {
+      fail(log, "out of memory");
+      return false;
+    }
+    log->rows_read += 1;
+    return true;
+  }
+}
+
+void note_log_close(note_log *log) {
+  if (log->file) {
+    fclose(log->file);
+  }
+  free(log->header_text);
   free(log->header.fields);
-  free(log->text);
+  free(log->row_text);
+  free(log->row.fields);
+  bool partial = log->partial_row;
+  bool failed = log->failed;
+  char reason[sizeof log->reason];
+  memcpy(reason, log->reason, sizeof reason);
   memset(log, 0, sizeof *log);
+  /* What happened stays readable after closing. */
+  log->partial_row = partial;
+  log->failed = failed;
+  memcpy(log->reason, reason, sizeof reason);
 }
 
 int note_log_column(const note_log *log, const char *name) {
   for (size_t i = 0; i < log->header.count; ++i) {
     if (strcmp(log->header.fields[i], name) == 0) {
-      return (int)i;
+      return i <= INT32_MAX ? (int)i : -1;
     }
   }
   return -1;
 }
 
-const char *note_log_field(const note_log *log, size_t row, int column) {
-  if (column < 0 || row >= log->row_count ||
-      (size_t)column >= log->rows[row].count) {
+const char *note_log_field(const note_log *log, int column) {
+  if (column < 0 || (size_t)column >= log->row.count) {
     return "";
   }
-  return log->rows[row].fields[column];
+  return log->row.fields[column];
 }
 
 /* strtod reads '.' as the decimal point because the command never sets a
    locale: it runs in the "C" locale, as the plugin writes its logs. */
-double note_log_number(const note_log *log, size_t row, int column) {
-  const char *field = note_log_field(log, row, column);
+double note_log_number(const note_log *log, int column) {
+  const char *field = note_log_field(log, column);
   char *end = NULL;
   double value = strtod(field, &end);
   if (field[0] == '\0' || *end != '\0') {

@@ -5,6 +5,8 @@
 */
 #include "progress.h"
 
+#include "terminal_text.h"
+
 #include <pthread.h>
 #include <stdarg.h>
 #include <stdbool.h>
@@ -113,14 +115,18 @@ void progress_finish(void) {
 }
 
 void console_error(const char *format, ...) {
-  pthread_mutex_lock(&console_mutex);
-  clear_line();
-  fputs("plumb: ", stderr);
+  /* Messages carry file names and the plugin's words: shown escaped, so
+     that no name can colour the terminal or break the line. */
+  char message[2048];
+  char shown[4 * sizeof message];
   va_list args;
   va_start(args, format);
-  vfprintf(stderr, format, args);
+  vsnprintf(message, sizeof message, format, args);
   va_end(args);
-  fputc('\n', stderr);
+  terminal_text(message, shown, sizeof shown);
+  pthread_mutex_lock(&console_mutex);
+  clear_line();
+  fprintf(stderr, "plumb: %s\n", shown);
   redraw_if_due(true);
   pthread_mutex_unlock(&console_mutex);
 }

@@ -79,7 +79,9 @@ static bool list_logs(const char *folder, log_names *logs) {
     console_error("report: out of memory listing '%s'", folder);
     return false;
   }
-  qsort(logs->names, logs->count, sizeof *logs->names, compare_names);
+  if (logs->count > 1) {
+    qsort(logs->names, logs->count, sizeof *logs->names, compare_names);
+  }
   return true;
 }
 

@@ -25,6 +25,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 
 /* Everything one scan holds, for the job function. */
 typedef struct {
@@ -38,6 +39,8 @@ typedef struct {
   host_context host;
   track_plan plan;
   bool *track_ok;
+  host_outcome *outcomes;
+  struct timespec started; /* logs written before this are an earlier run's */
 } scan_run;
 
 /* False after reporting a port the plugin should have and has not. */
@@ -133,8 +136,8 @@ static int prepare_plugin(scan_run *scan, const scan_options *options) {
 
 static bool run_track(size_t index, void *context) {
   scan_run *scan = context;
-  scan->track_ok[index] =
-      host_run_track(&scan->host, &scan->plan.tracks[index]);
+  scan->track_ok[index] = host_run_track(
+      &scan->host, &scan->plan.tracks[index], &scan->outcomes[index]);
   return scan->track_ok[index];
 }
 
@@ -158,6 +161,26 @@ static void run_tracks(scan_run *scan, const scan_options *options) {
   progress_finish();
 }
 
+/* The log of track i that this run wrote: its path, or NULL for a take
+   with no notes (the plugin leaves no files then). False after reporting
+   a take whose notes were counted but whose log is missing. */
+static bool this_runs_log(const scan_run *scan, size_t i, char *path, size_t size,
+                          const char **found) {
+  const char *label = scan->plan.tracks[i].label;
+  *found = NULL;
+  if (log_locate(scan->log_folder, label, scan->started, path, size)) {
+    *found = path;
+    return true;
+  }
+  long notes = scan->outcomes[i].notes;
+  if (notes > 0) {
+    console_error("%s: the plugin counted %ld notes, but no log of this run is in %s",
+                  label, notes, scan->log_folder);
+    return false;
+  }
+  return true;
+}
+
 /* The summary of the tracks that ran; returns the final exit status. */
 static int summarise(const scan_run *scan, const scan_options *options,
                      int status) {
@@ -173,17 +196,16 @@ static int summarise(const scan_run *scan, const scan_options *options,
   }
   size_t count = 0;
   for (size_t i = 0; i < scan->plan.count; ++i) {
-    const char *label = scan->plan.tracks[i].label;
-    /* The plugin names the log after the label's stem, and may add -2 ...
-       when another instance holds that name: find the one we wrote. */
-    log_locate(scan->log_folder, label, paths[count], PATH_MAX);
-    if (strlen(paths[count]) + 1 >= PATH_MAX) {
-      console_error("%s: the log's path is too long", label);
-      status = EXIT_STATUS_IO;
-    } else if (scan->track_ok[i]) {
-      takes[count] = (summary_take){label, paths[count]};
-      ++count;
+    const char *found = NULL;
+    if (!scan->outcomes[i].ran) {
+      continue; /* its failure has been reported */
     }
+    if (!this_runs_log(scan, i, paths[count], PATH_MAX, &found)) {
+      status = EXIT_STATUS_IO;
+      continue;
+    }
+    takes[count] = (summary_take){scan->plan.tracks[i].label, found};
+    ++count;
   }
   summary_totals totals = summary_print(stdout, takes, count, scan->log_folder);
   free(takes);
@@ -206,12 +228,17 @@ static int scan_takes(scan_run *scan, const scan_options *options) {
   if (!tracks_plan(options->files, options->file_count, &scan->plan)) {
     return EXIT_STATUS_IO;
   }
-  scan->track_ok =
-      calloc(scan->plan.count ? scan->plan.count : 1, sizeof *scan->track_ok);
-  if (!scan->track_ok) {
+  size_t slots = scan->plan.count ? scan->plan.count : 1;
+  scan->track_ok = calloc(slots, sizeof *scan->track_ok);
+  scan->outcomes = calloc(slots, sizeof *scan->outcomes);
+  if (!scan->track_ok || !scan->outcomes) {
     console_error("out of memory");
     return EXIT_STATUS_IO;
   }
+  /* A file's time stamp can lag the clock by a tick of the kernel's:
+     a second of slack (the run.json must also name this process). */
+  clock_gettime(CLOCK_REALTIME, &scan->started);
+  scan->started.tv_sec -= 1;
   run_tracks(scan, options);
   int status = scan->plan.failed_files ? EXIT_STATUS_IO : EXIT_STATUS_DONE;
   for (size_t i = 0; i < scan->plan.count; ++i) {
@@ -222,6 +249,7 @@ static int scan_takes(scan_run *scan, const scan_options *options) {
 
 static void scan_free(scan_run *scan) {
   free(scan->track_ok);
+  free(scan->outcomes);
   tracks_free(&scan->plan);
   free(scan->control_values);
   port_layout_free(&scan->layout);

@@ -2,6 +2,8 @@
   The terminal summary of a set of session logs: a table of the flagged
   notes (sharp, flat or unsteady), then one line per take with its counts,
   then where the logs are. `plumb scan` and `plumb report` both print it.
+  Each log is read row by row, twice (counts, then the flagged rows), so a
+  log of any length needs the memory of one row.
 */
 #ifndef PLUMB_CLI_SUMMARY_H
 #define PLUMB_CLI_SUMMARY_H
@@ -11,7 +13,8 @@
 
 typedef struct {
   const char *label;    /* the take's name in the tables */
-  const char *log_path; /* its <label>.notes.csv */
+  const char *log_path; /* its <label>.notes.csv; NULL: a take with no
+                           notes, which leaves no log */
 } summary_take;
 
 typedef struct {

@@ -1,6 +1,7 @@
 #include "tracks.h"
 
 #include "audio_file.h"
+#include "plumb_csv.h"
 #include "progress.h"
 
 #include <stdio.h>
@@ -9,8 +10,12 @@
 
 /* The file name without its folder and its last extension; a name with
    no other dot than a leading one keeps it ("take.01.wav" -> "take.01",
-   ".wav" -> ".wav"). */
+   ".wav" -> ".wav"). Standard input is "stdin". */
 static void file_stem(const char *path, char *stem, size_t size) {
+  if (strcmp(path, "-") == 0) {
+    snprintf(stem, size, "stdin");
+    return;
+  }
   const char *slash = strrchr(path, '/');
   const char *name = slash ? slash + 1 : path;
   const char *dot = strrchr(name, '.');
@@ -18,29 +23,44 @@ static void file_stem(const char *path, char *stem, size_t size) {
   snprintf(stem, size, "%.*s", (int)length, name);
 }
 
+/* Two labels clash when they name the same log file. */
 static bool label_taken(const track_plan *plan, const char *label) {
+  char stem[PLUMB_LOG_STEM_MAX + 1];
+  char other[PLUMB_LOG_STEM_MAX + 1];
+  plumb_log_stem(label, stem);
   for (size_t i = 0; i < plan->count; ++i) {
-    if (strcmp(plan->tracks[i].label, label) == 0) {
+    plumb_log_stem(plan->tracks[i].label, other);
+    if (strcmp(stem, other) == 0) {
       return true;
     }
   }
   return false;
 }
 
-/* `wanted`, or wanted-2, wanted-3 ... whichever no earlier track has. */
+/* `wanted`, or wanted-2, wanted-3 ... whichever names a log file that no
+   earlier track's does. The suffix goes where the log stem keeps it: a
+   stem is cut to PLUMB_LOG_STEM_MAX bytes, so a long label is shortened
+   first (at a whole UTF-8 character). */
 static void unique_label(const track_plan *plan, const char *wanted,
                          char *label, size_t size) {
   snprintf(label, size, "%s", wanted);
   for (int n = 2; label_taken(plan, label); ++n) {
-    snprintf(label, size, "%s-%d", wanted, n);
+    char suffix[16];
+    snprintf(suffix, sizeof suffix, "-%d", n);
+    size_t room = PLUMB_LOG_STEM_MAX - strlen(suffix);
+    size_t keep = strlen(wanted) < room ? strlen(wanted) : room;
+    while (keep > 0 && ((unsigned char)wanted[keep] & 0xC0u) == 0x80u) {
+      --keep; /* wanted[keep] continues a character: cut before it */
+    }
+    snprintf(label, size, "%.*s%s", (int)keep, wanted, suffix);
   }
 }
 
-static void add_tracks(track_plan *plan, const char *path,
+static void add_tracks(track_plan *plan, const char *name, const char *path,
                        const SF_INFO *info) {
   /* Room left in a label for "-ch<N>" and then "-<N>". */
   char stem[200];
-  file_stem(path, stem, sizeof stem);
+  file_stem(name, stem, sizeof stem);
   for (int channel = 0; channel < info->channels; ++channel) {
     host_track *track = &plan->tracks[plan->count];
     char wanted[224];
@@ -49,6 +69,7 @@ static void add_tracks(track_plan *plan, const char *path,
     } else {
       snprintf(wanted, sizeof wanted, "%s-ch%d", stem, channel + 1);
     }
+    track->name = name;
     track->path = path;
     track->channel = channel;
     /* A stream of unknown length reports SF_COUNT_MAX: no share to show. */
@@ -73,15 +94,60 @@ static bool reserve(track_plan *plan, size_t more, size_t *capacity) {
   return true;
 }
 
+/* The path to open for `name`: itself, or the copy of a stream. False
+   after reporting a stream that could not be copied. */
+static bool source_path(track_plan *plan, const char *name, const char **path) {
+  *path = name;
+  if (!input_is_stream(name)) {
+    return true;
+  }
+  input_stream *stream = &plan->streams[plan->stream_count];
+  char reason[256];
+  if (!input_stream_copy(name, stream, reason, sizeof reason)) {
+    console_error("%s: %s", strcmp(name, "-") == 0 ? "standard input" : name, reason);
+    return false;
+  }
+  plan->stream_count += 1;
+  *path = stream->path;
+  return true;
+}
+
+/* Opens one take for a first look; false after reporting why not. */
+static SNDFILE *look_at(track_plan *plan, const char *name, SF_INFO *info,
+                        const char **path) {
+  if (!source_path(plan, name, path)) {
+    return NULL;
+  }
+  char reason[256];
+  SNDFILE *file = audio_file_open(*path, info, reason, sizeof reason);
+  if (!file) {
+    console_error("%s: %s", name, reason);
+    return NULL;
+  }
+  /* A stream's header is written before its length is known: only a
+     file's header is held to its length. */
+  bool streamed = *path != name;
+  if (!streamed && audio_file_header_disagrees(file)) {
+    console_error("%s: its header and its length disagree (cut off while it "
+                  "was written?); analysing the %lld frames that are there",
+                  name, (long long)info->frames);
+  }
+  return file;
+}
+
 bool tracks_plan(char *const *files, int file_count, track_plan *plan) {
   memset(plan, 0, sizeof *plan);
+  plan->streams = calloc(file_count > 0 ? (size_t)file_count : 1, sizeof *plan->streams);
+  if (!plan->streams) {
+    console_error("out of memory planning the tracks");
+    return false;
+  }
   size_t capacity = 0;
   for (int i = 0; i < file_count; ++i) {
     SF_INFO info;
-    char reason[256];
-    SNDFILE *file = audio_file_open(files[i], &info, reason, sizeof reason);
+    const char *path = NULL;
+    SNDFILE *file = look_at(plan, files[i], &info, &path);
     if (!file) {
-      console_error("%s: %s", files[i], reason);
       plan->failed_files += 1;
       continue;
     }
@@ -90,12 +156,16 @@ bool tracks_plan(char *const *files, int file_count, track_plan *plan) {
       console_error("out of memory planning the tracks");
       return false;
     }
-    add_tracks(plan, files[i], &info);
+    add_tracks(plan, files[i], path, &info);
   }
   return true;
 }
 
 void tracks_free(track_plan *plan) {
+  for (size_t i = 0; i < plan->stream_count; ++i) {
+    input_stream_close(&plan->streams[i]);
+  }
+  free(plan->streams);
   free(plan->tracks);
   memset(plan, 0, sizeof *plan);
 }
