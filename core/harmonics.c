@@ -21,7 +21,10 @@
 #define COARSE_RELATIVE_ERROR 0.01
 #define COARSE_LOW_RELATIVE_ERROR 0.05
 #define ACCEPT_RELATIVE_ERROR 0.0175
-/* The stiffest string that stays pitched (issue target: B up to 0.01). */
+/* The stiffest string that stays pitched: the project's target, B up to
+   0.01. Young (1952) finds partial 2 of C4 about 1.2 cents sharp (B about
+   3.5e-4) and the inharmonicity doubling every eight semitones above, so
+   B reaches 0.01 near D#7 (derived). */
 #define ACCEPT_B_MAX 0.01
 /* Common practice, no source. */
 #define MISSES_TO_STOP 4

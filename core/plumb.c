@@ -39,21 +39,42 @@ static void set_search_range(plumb *self) {
     self->lag_max = self->yin.lag_max_samples;
 }
 
-static bool settings_valid(const plumb_settings *s) {
-  return s && isfinite(s->tolerance_cents) && s->tolerance_cents > 0.0 &&
-         isfinite(s->min_note_ms) && s->min_note_ms > 0.0 &&
-         isfinite(s->tuning.reference_hz) && s->tuning.reference_hz > 0.0 &&
-         s->lowest_midi <= s->highest_midi;
+_Static_assert(PLUMB_SETTINGS_LOWEST_MIDI == LOWEST_SUPPORTED_MIDI &&
+                   PLUMB_SETTINGS_HIGHEST_MIDI == HIGHEST_SUPPORTED_MIDI,
+               "plumb.h's MIDI range is the one the analysis is sized for");
+
+/* Within [low, high]; false for NaN. */
+static bool within(double value, double low, double high) {
+  return value >= low && value <= high;
+}
+
+/* The A anchor subtracts one custom offset from another, so a resolved
+   offset can be twice the custom limit. */
+static bool tuning_within_range(const plumb_tuning *tuning) {
+  if (!within(tuning->reference_hz, PLUMB_SETTINGS_MIN_REFERENCE_HZ,
+              PLUMB_SETTINGS_MAX_REFERENCE_HZ))
+    return false;
+  for (int pitch_class = 0; pitch_class < 12; ++pitch_class)
+    if (!within(tuning->offset_cents[pitch_class], -2.0 * PLUMB_CUSTOM_OFFSET_LIMIT_CENTS,
+                2.0 * PLUMB_CUSTOM_OFFSET_LIMIT_CENTS))
+      return false;
+  return true;
+}
+
+plumb_status plumb_settings_check(const plumb_settings *s) {
+  bool valid = s && tuning_within_range(&s->tuning) && s->tolerance_cents > 0.0 &&
+               within(s->tolerance_cents, 0.0, PLUMB_SETTINGS_MAX_TOLERANCE_CENTS) &&
+               within(s->min_note_ms, PLUMB_SETTINGS_MIN_NOTE_MS, PLUMB_SETTINGS_MAX_NOTE_MS) &&
+               s->lowest_midi >= PLUMB_SETTINGS_LOWEST_MIDI &&
+               s->highest_midi <= PLUMB_SETTINGS_HIGHEST_MIDI &&
+               s->lowest_midi <= s->highest_midi;
+  return valid ? PLUMB_OK : PLUMB_ERR_ARGUMENT;
 }
 
 static void apply_settings(plumb *self, const plumb_settings *settings) {
   double sample_rate_hz = self->settings.sample_rate_hz;
   self->settings = *settings;
   self->settings.sample_rate_hz = sample_rate_hz;
-  if (self->settings.lowest_midi < LOWEST_SUPPORTED_MIDI)
-    self->settings.lowest_midi = LOWEST_SUPPORTED_MIDI;
-  if (self->settings.highest_midi > HIGHEST_SUPPORTED_MIDI)
-    self->settings.highest_midi = HIGHEST_SUPPORTED_MIDI;
   set_search_range(self);
   self->measure.tuning = self->settings.tuning;
   self->measure.tolerance_cents = self->settings.tolerance_cents;
@@ -91,7 +112,7 @@ static plumb_status allocate(plumb *self) {
 plumb *plumb_new(const plumb_settings *settings, plumb_status *status) {
   plumb_status result = PLUMB_OK;
   plumb *self = NULL;
-  if (!settings_valid(settings)) result = PLUMB_ERR_ARGUMENT;
+  if (plumb_settings_check(settings) != PLUMB_OK) result = PLUMB_ERR_ARGUMENT;
   else if (!(settings->sample_rate_hz >= MIN_SAMPLE_RATE_HZ &&
              settings->sample_rate_hz <= MAX_SAMPLE_RATE_HZ))
     result = PLUMB_ERR_SAMPLE_RATE;
@@ -157,7 +178,7 @@ void plumb_reset(plumb *self) {
 }
 
 plumb_status plumb_configure(plumb *self, const plumb_settings *settings) {
-  if (!self || !settings_valid(settings)) return PLUMB_ERR_ARGUMENT;
+  if (!self || plumb_settings_check(settings) != PLUMB_OK) return PLUMB_ERR_ARGUMENT;
   apply_settings(self, settings);
   return PLUMB_OK;
 }

@@ -79,11 +79,21 @@ typedef struct {
   double offset_cents[12];
 } plumb_tuning;
 
+/* The largest custom offset, either way: half an octave. Beyond it a
+   pitch class would sit nearer another class's place than its own, so a
+   file holding such a number is far more likely a mistake than a tuning
+   (common practice, no source). */
+#define PLUMB_CUSTOM_OFFSET_LIMIT_CENTS 600.0
+
 /* Fill a spec with equal temperament, A4 = 440 Hz, tonic C. */
 void plumb_tuning_spec_default(plumb_tuning_spec *spec);
 
 /* Resolve a spec: build the temperament from its chain of fifths (or its
-   ratios, for just intonation), rotate it to the tonic and anchor A. */
+   ratios, for just intonation), rotate it to the tonic and anchor A.
+   PLUMB_ERR_ARGUMENT (and *tuning untouched) when the reference is not a
+   finite number above 0, the tonic is outside 0..11, the temperament
+   outside the enumeration, or (custom only) an offset is not finite or
+   is beyond +-PLUMB_CUSTOM_OFFSET_LIMIT_CENTS. */
 plumb_status plumb_tuning_build(const plumb_tuning_spec *spec,
                                 plumb_tuning *tuning);
 
@@ -98,9 +108,24 @@ int plumb_tuning_nearest(const plumb_tuning *tuning, double f_hz,
 
 /* Parse the text of a user tuning file: twelve numbers (cents from equal
    temperament, degree 0 = tonic first), separated by white space, commas or
-   newlines; '#' starts a comment that runs to the end of the line. */
+   newlines; '#' starts a comment that runs to the end of the line.
+   PLUMB_ERR_PARSE when the text is not twelve such numbers;
+   PLUMB_ERR_ARGUMENT when it is, but one is beyond
+   +-PLUMB_CUSTOM_OFFSET_LIMIT_CENTS (plumb_tuning_parse_find_beyond_limit()
+   then names it). Either way offsets_cents is left unchanged. */
 plumb_status plumb_tuning_parse_offsets(const char *text,
                                         double offsets_cents[12]);
+
+/* [RT] The first offset (0..11) that is not a finite number within
+   +-PLUMB_CUSTOM_OFFSET_LIMIT_CENTS, or -1 when all twelve are (0 for
+   NULL). */
+int plumb_tuning_offsets_beyond_limit(const double offsets_cents[12]);
+
+/* For a text that plumb_tuning_parse_offsets() refuses with
+   PLUMB_ERR_ARGUMENT: the position (0..11) of the first number beyond
+   the limit, with its value in *offset_cents; -1 for any other text. */
+int plumb_tuning_parse_find_beyond_limit(const char *text,
+                                         double *offset_cents);
 
 /* Names used by the command line and the TTL enumerations. */
 const char *plumb_temperament_name(plumb_temperament temperament);
@@ -174,16 +199,40 @@ typedef struct {
 
 /* ---------------------------------------------------------------- setup */
 
+/* Every field is checked by plumb_new() and plumb_configure(), which
+   refuse a value outside its range (NaN and the infinities included)
+   with PLUMB_ERR_ARGUMENT and change nothing; the ranges are generous
+   bounds that keep every internal conversion exact (no float-to-int
+   overflow), not advice (common practice, no source). */
 typedef struct {
-  double sample_rate_hz;
-  plumb_tuning tuning;     /* resolved with plumb_tuning_build() */
-  double tolerance_cents;  /* sharp/flat beyond +-tolerance */
-  int lowest_midi;         /* search range, default 28 (E1) */
-  int highest_midi;        /* default 96 (C7) */
+  double sample_rate_hz;   /* 8000 .. 384000 Hz (else PLUMB_ERR_SAMPLE_RATE);
+                              plumb_configure() ignores it */
+  plumb_tuning tuning;     /* resolved with plumb_tuning_build(): reference_hz
+                              within PLUMB_SETTINGS_MIN/MAX_REFERENCE_HZ, each
+                              offset finite and within +-2 x
+                              PLUMB_CUSTOM_OFFSET_LIMIT_CENTS (the A anchor
+                              can double a custom offset) */
+  double tolerance_cents;  /* sharp/flat beyond +-tolerance; above 0, at most
+                              PLUMB_SETTINGS_MAX_TOLERANCE_CENTS */
+  int lowest_midi;         /* search range, default 28 (E1); both ends within
+                              PLUMB_SETTINGS_LOWEST_MIDI .. _HIGHEST_MIDI */
+  int highest_midi;        /* default 96 (C7); lowest <= highest */
   double min_note_ms;      /* shortest held pitch change (legato) and shortest
                               spacing of re-articulations; shorter events are
-                              still reported */
+                              still reported. PLUMB_SETTINGS_MIN/MAX_NOTE_MS */
 } plumb_settings;
+
+#define PLUMB_SETTINGS_MIN_REFERENCE_HZ 100.0
+#define PLUMB_SETTINGS_MAX_REFERENCE_HZ 1000.0
+#define PLUMB_SETTINGS_MAX_TOLERANCE_CENTS 600.0
+#define PLUMB_SETTINGS_LOWEST_MIDI 21  /* A0, the piano's lowest key */
+#define PLUMB_SETTINGS_HIGHEST_MIDI 108 /* C8, its highest */
+#define PLUMB_SETTINGS_MIN_NOTE_MS 1.0
+#define PLUMB_SETTINGS_MAX_NOTE_MS 10000.0
+
+/* [RT] PLUMB_OK when every field but the sample rate is within the
+   ranges above, else PLUMB_ERR_ARGUMENT (also for NULL). */
+plumb_status plumb_settings_check(const plumb_settings *settings);
 
 /* Defaults: equal temperament at 440 Hz, 10 cents, E1..C7, 80 ms. */
 void plumb_settings_default(plumb_settings *settings, double sample_rate_hz);
@@ -201,8 +250,9 @@ void plumb_free(plumb *analyser);
 void plumb_reset(plumb *analyser);
 
 /* [RT] Change settings between process calls. The sample rate cannot
-   change (create a new instance); the range is clamped to what the
-   instance was created for. Applies to notes that complete afterwards. */
+   change (create a new instance). Settings outside the ranges of
+   plumb_settings are refused with PLUMB_ERR_ARGUMENT and the previous
+   ones stay. Applies to notes that complete afterwards. */
 plumb_status plumb_configure(plumb *analyser, const plumb_settings *settings);
 
 /* ---------------------------------------------------------------- process */

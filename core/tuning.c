@@ -176,14 +176,17 @@ static bool spec_is_valid(const plumb_tuning_spec *spec) {
       spec->temperament >= PLUMB_TEMPERAMENT_COUNT) {
     return false;
   }
-  if (spec->temperament == PLUMB_TEMPERAMENT_CUSTOM) {
-    for (int degree = 0; degree < 12; degree++) {
-      if (!isfinite(spec->custom_offsets_cents[degree])) {
-        return false;
-      }
+  return spec->temperament != PLUMB_TEMPERAMENT_CUSTOM ||
+         plumb_tuning_offsets_beyond_limit(spec->custom_offsets_cents) < 0;
+}
+
+int plumb_tuning_offsets_beyond_limit(const double offsets_cents[12]) {
+  for (int degree = 0; offsets_cents && degree < 12; degree++) {
+    if (!(fabs(offsets_cents[degree]) <= PLUMB_CUSTOM_OFFSET_LIMIT_CENTS)) {
+      return degree; /* NaN fails the comparison too */
     }
   }
-  return true;
+  return offsets_cents ? -1 : 0;
 }
 
 static int pitch_class_of(int midi) { return ((midi % 12) + 12) % 12; }
@@ -431,17 +434,12 @@ static const char *skip_comment(const char *p) {
 /* Separators are white space or one comma (with any white space around
    it) between two numbers; a comma before the first number, after the
    last or twice in a row means a value is missing. */
-plumb_status plumb_tuning_parse_offsets(const char *text,
-                                        double offsets_cents[12]) {
-  if (!text || !offsets_cents) {
-    return PLUMB_ERR_ARGUMENT;
-  }
+static plumb_status parse_twelve(const char *text, double values[12]) {
   const char *p = text;
   if ((unsigned char)p[0] == 0xEF && (unsigned char)p[1] == 0xBB &&
       (unsigned char)p[2] == 0xBF) {
     p += 3; /* a UTF-8 byte order mark, as some editors write */
   }
-  double values[12];
   int count = 0;
   bool comma_pending = false;
   while (*p != '\0') {
@@ -465,11 +463,37 @@ plumb_status plumb_tuning_parse_offsets(const char *text,
       comma_pending = false;
     }
   }
-  if (count != 12 || comma_pending) {
-    return PLUMB_ERR_PARSE;
+  return count == 12 && !comma_pending ? PLUMB_OK : PLUMB_ERR_PARSE;
+}
+
+plumb_status plumb_tuning_parse_offsets(const char *text,
+                                        double offsets_cents[12]) {
+  if (!text || !offsets_cents) {
+    return PLUMB_ERR_ARGUMENT;
+  }
+  double values[12];
+  plumb_status status = parse_twelve(text, values);
+  if (status != PLUMB_OK) {
+    return status;
+  }
+  if (plumb_tuning_offsets_beyond_limit(values) >= 0) {
+    return PLUMB_ERR_ARGUMENT; /* every caller refuses what the build would */
   }
   for (int degree = 0; degree < 12; degree++) {
     offsets_cents[degree] = values[degree];
   }
   return PLUMB_OK;
+}
+
+int plumb_tuning_parse_find_beyond_limit(const char *text,
+                                         double *offset_cents) {
+  double values[12];
+  if (!text || parse_twelve(text, values) != PLUMB_OK) {
+    return -1;
+  }
+  int degree = plumb_tuning_offsets_beyond_limit(values);
+  if (degree >= 0 && offset_cents) {
+    *offset_cents = values[degree];
+  }
+  return degree;
 }

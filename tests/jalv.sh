@@ -1,5 +1,6 @@
 #!/bin/sh
-# jalv on jackd2's dummy driver (shared/HOSTS.md): the plugin loads in a
+# jalv on jackd2's dummy driver (measured on Debian 12, jalv 1.6.6 and
+# jackd2 1.9.21: it needs no sound card): the plugin loads in a
 # real-time host, answers `controls` and `monitors`, and writes its log;
 # then, with audio from JACK on its input and a transport driven by
 # jack_transport, the log's timeline_s follows the transport.

@@ -7,7 +7,8 @@
   - e^(-t/tau) falls 20 log10(e) / tau = 8.686 / tau dB a second, so 60 dB
     in T60 = 6.908 tau (the ISO 3382 decay-rate reading);
   - a plateau at -6 dB reads -6 dB.
-  Each within the issue's tolerance: 5 %, and 0.5 dB for the plateau.
+  Each within 5 %, and 0.5 dB for the plateau (the project's tolerances, a
+  project choice, no source).
 */
 #include "harness.h"
 

@@ -2,10 +2,10 @@
   Stiff strings: the inharmonicity B of f_n = n f0 sqrt(1 + B n^2)
   (Fletcher 1964) read from exact synthetic tones, and the fundamental
   read under that model rather than dragged sharp by the stretched upper
-  partials. Check values from REFERENCES.md (derived from Fletcher's
-  formula): with B = 4e-4 at C4 (261.6256 Hz), partial 2 is 523.670 Hz
-  (+1.384 cents), partial 5 1314.652 Hz (+8.61 cents), partial 10
-  2668.068 Hz (+33.95 cents); Young (1952): partial 2 of C4 about 1.2 cents
+  partials. Check values derived from Fletcher's (1964) formula: with
+  B = 4e-4 at C4 (261.6256 Hz), partial 2 is 523.670 Hz (+1.384 cents),
+  partial 5 1314.652 Hz (+8.61 cents), partial 10 2668.068 Hz
+  (+33.95 cents); Young (1952): partial 2 of C4 about 1.2 cents
   sharp, which implies B of about 3.5e-4.
 */
 #include "harness.h"
@@ -39,7 +39,7 @@ static plumb_note read_stiff_tone(int midi, double b, int partials) {
 
 static void test_fletcher_worked_values(void **state) {
   (void)state;
-  /* REFERENCES.md, derived from Fletcher (1964): the generator's partial
+  /* Derived from Fletcher's (1964) formula: the generator's partial
      ratios at B = 4e-4 give the published worked values. */
   const double c4 = 261.6256;
   assert_true(fabs(c4 * sig_partial_ratio(4e-4, 2) - 523.670) < 0.001);
@@ -50,7 +50,10 @@ static void test_fletcher_worked_values(void **state) {
 
 static void test_b_read_within_five_percent(void **state) {
   (void)state;
-  /* Issue target: B from 1e-5 to 1e-2 within +-5 %, on several notes. */
+  /* Project target (a project choice, no source): B from 1e-5 to 1e-2
+     within +-5 %, on several notes. 1e-2 is about Young's (1952) plain
+     strings near D#7: 1.2 cents at partial 2 of C4, doubling every eight
+     semitones (derived). */
   const double bs[] = {1e-5, 1e-4, 4e-4, 1e-3, 4e-3, 1e-2};
   const int notes[] = {48, 60, 72};
   for (size_t m = 0; m < 3; ++m)
@@ -59,7 +62,7 @@ static void test_b_read_within_five_percent(void **state) {
       if (note.verdict == PLUMB_VERDICT_UNPITCHED || fabs(note.inharmonicity_b / bs[i] - 1.0) > 0.05)
         print_message("midi %d B %.1e: read %.4e (%s)\n", notes[m], bs[i], note.inharmonicity_b,
                       plumb_verdict_name(note.verdict));
-      /* a stiff string with B up to 0.01 stays pitched (issue target) */
+      /* a stiff string with B up to 0.01 stays pitched (project target) */
       assert_int_not_equal(note.verdict, PLUMB_VERDICT_UNPITCHED);
       assert_true(fabs(note.inharmonicity_b / bs[i] - 1.0) <= 0.05);
     }
@@ -69,7 +72,8 @@ static void test_b_with_forty_partials(void **state) {
   (void)state;
   /* The same with 40 partials, as many as the analysis follows (those
      above 0.45 fs are left out by the generator): B from 1e-5 to 4e-3
-     within +-5 % (the issue's judged range), on three notes. */
+     within +-5 % (the range judged with 40 partials, a project choice),
+     on three notes. */
   const double bs[] = {1e-5, 1e-4, 4e-4, 1e-3, 4e-3};
   const int notes[] = {36, 48, 60};
   for (size_t m = 0; m < 3; ++m)
@@ -85,7 +89,8 @@ static void test_b_with_forty_partials(void **state) {
 
 static void test_harmonic_tone_reads_no_inharmonicity(void **state) {
   (void)state;
-  /* Issue target: B = 0 reads below 1e-6. */
+  /* Project target: B = 0 reads below 1e-6, which would stretch partial
+     10 by under 0.09 cent (derived from Fletcher's formula). */
   plumb_note note = read_stiff_tone(57, 0.0, 16);
   assert_true(note.inharmonicity_b < 1e-6);
 }
@@ -106,7 +111,7 @@ static void test_pitch_is_the_fundamental_of_the_model(void **state) {
 static void test_partial_ten_reads_fletchers_stretch(void **state) {
   (void)state;
   /* Fletcher (1964) with B = 4e-4 at C4: partial 10 lies at 10 f0
-     sqrt(1 + 100 B), +33.95 cents against 10 f0 (REFERENCES.md); the log's
+     sqrt(1 + 100 B), +33.95 cents against 10 f0 (derived); the log's
      partial_cents reads it within 0.5 cent, and every partial found within
      0.5 cent of 600 log2(1 + B k^2). */
   plumb_note note = read_stiff_tone(60, 4e-4, 16);

@@ -2,7 +2,7 @@
   Pitch precision of the core, against published values and exact
   synthetic signals:
   - the Cramer-Rao bound for one sinusoid in white noise (Rife & Boorstyn
-    1974), with the worked value of REFERENCES.md;
+    1974), with worked values derived from its formula;
   - equal temperament from the MIDI Tuning Standard formula for the
     targets of detuned tones at three sample rates;
   - the missing fundamental (harmonics 2-10 of 220 Hz read 220 Hz);
@@ -34,7 +34,7 @@ static double crb_sigma_hz(double fs, double snr_db, double n) {
 
 static void test_crb_formula_matches_worked_values(void **state) {
   (void)state;
-  /* REFERENCES.md (derived): N = 2048, 48 kHz, 40 dB -> 0.0112 cent at
+  /* Derived from Rife & Boorstyn's bound: N = 2048, 48 kHz, 40 dB -> 0.0112 cent at
      440 Hz; 20 dB -> 0.112 cent; N = 1024, 40 dB -> 0.0318 cent. */
   assert_true(fabs(cents_from_hz_error(crb_sigma_hz(48000, 40, 2048), 440) - 0.0112) < 0.0002);
   assert_true(fabs(cents_from_hz_error(crb_sigma_hz(48000, 20, 2048), 440) - 0.112) < 0.002);
@@ -44,7 +44,8 @@ static void test_crb_formula_matches_worked_values(void **state) {
 /* The frame estimator on N = 2048 samples: two Hann frames of 1366 samples
    682 apart (together exactly N), phase-vocoder frequency of the peak.
    The spread over 200 noisy trials must not beat the bound (that would be
-   a measurement bug) and must stay within 3x of it (DESIGN.md target). */
+   a measurement bug) and must stay within 3x of it (the project's target
+   for steady tones, a project choice, no source). */
 static void test_frame_spread_within_three_times_crb(void **state) {
   (void)state;
   const double fs = 48000.0, f_hz = 440.0, snr_db = 40.0;
@@ -138,8 +139,9 @@ static void test_detuned_tones_96k(void **state) { (void)state; check_detuned_to
 
 static void test_missing_fundamental(void **state) {
   (void)state;
-  /* REFERENCES.md: harmonics 2-10 of 220 Hz must read 220 Hz +-1 cent,
-     with no octave error. */
+  /* Exact synthetic signal: harmonics 2-10 of 220 Hz repeat exactly every
+     1/220 s, so they must read 220 Hz (the missing fundamental), with no
+     octave error; +-1 cent is common practice, no source. */
   const double fs = 48000.0, seconds = 1.0;
   size_t length = (size_t)(seconds * fs), lead = (size_t)(0.2 * fs);
   size_t n = length + 2 * lead;
@@ -182,8 +184,10 @@ static void check_vibrato(double fs, double centre_hz, double rate_hz, double ex
   print_message("vibrato %.1f Hz %.0f c at %.1f Hz: read %.3f Hz %.2f c, centre %+.3f c\n",
                 rate_hz, extent_cents, centre_hz, note->vibrato_hz, note->vibrato_cents,
                 centre_error);
-  /* Issue targets: centre within 1 cent, rate within 0.1 Hz, extent within
-     2 cents of the synthesised values. */
+  /* Project targets (a project choice, no source): centre within 1 cent,
+     rate within 0.1 Hz, extent within 2 cents of the synthesised values,
+     small beside real vibrato: 5.5-8 Hz, 0.2-0.35 semitone peak to peak
+     for strings and 0.6-2 for singers (Timmers & Desain 2000). */
   assert_true(fabs(centre_error) <= 1.0);
   assert_true(fabs(note->vibrato_hz - rate_hz) <= 0.1);
   assert_true(fabs(note->vibrato_cents - extent_cents) <= 2.0);

@@ -3,7 +3,7 @@
   time by fluidsynth with Debian's fluid-soundfont-gm (chorus and reverb
   off; tests/sampled/render.h):
   - the piano's B lies in the range published for its register: at C4
-    about 3.5e-4 (Young 1952: partial 2 about 1.2 cents sharp, REFERENCES.md),
+    about 3.5e-4 (Young 1952: partial 2 about 1.2 cents sharp; B derived),
     lowest about two octaves below middle C (Schuck & Young 1943) and
     rising towards the treble; the ranges per note below are from memory
     (a factor of about 2 either side of the usual values);

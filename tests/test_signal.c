@@ -154,7 +154,7 @@ static void test_strikes_sound_at_their_modes(void **state) {
 /* ------------------------------------------------------------ pitch */
 
 /* Source: MIDI Tuning Standard formula f = 440 * 2^((m - 69) / 12); the
-   values are those listed in shared/REFERENCES.md (derived). */
+   values are derived from it. */
 static void test_midi_to_hz_matches_tuning_standard(void **state) {
   (void)state;
   assert_float_equal(sig_midi_to_hz(69, 440.0), 440.0, 1e-12);
@@ -187,7 +187,7 @@ static void test_sine_frequency_by_zero_crossings(void **state) {
 }
 
 /* Source: Fletcher (1964) f_n = n f0 sqrt(1 + B n^2); worked value with
-   B = 4e-4, f0 = 261.6256 Hz, n = 5: 1314.652 Hz (REFERENCES.md, derived). */
+   B = 4e-4, f0 = 261.6256 Hz, n = 5: 1314.652 Hz (derived). */
 static void test_stiff_string_partial_frequency(void **state) {
   (void)state;
   const double amps[5] = {0, 0, 0, 0, 1};
@@ -364,7 +364,7 @@ static void test_same_seed_same_samples(void **state) {
 /* ------------------------------------------------------------ envelope */
 
 /* Source: a linear ramp of length T crosses 10 % at 0.1 T and 90 % at
-   0.9 T, a 10-90 % rise of 0.8 T (REFERENCES.md, derived). */
+   0.9 T, a 10-90 % rise of 0.8 T (derived). */
 static void test_linear_attack_crossings(void **state) {
   (void)state;
   const sig_envelope e = {SIG_RAMP_LINEAR, 0.050, 0.0, 0.0, SIG_RAMP_LINEAR, 0.01};
@@ -385,7 +385,7 @@ static void test_linear_attack_crossings(void **state) {
 }
 
 /* Source: 1 - e^(-t/tau) rises 10-90 % in tau ln 9; e^(-t/tau) falls
-   60 dB in 6.908 tau (REFERENCES.md, derived). */
+   60 dB in tau ln 1000 = 6.908 tau (derived). */
 static void test_exponential_attack_and_release(void **state) {
   (void)state;
   const double tau_s = 0.02;

@@ -78,12 +78,14 @@ static void test_sawtooth_tristimulus_and_centroid(void **state) {
   double h20 = harmonic_number(20);
   print_message("tristimulus %.4f %.4f %.4f, centroid %.2f Hz\n", note.tristimulus[0],
                 note.tristimulus[1], note.tristimulus[2], note.centroid_hz);
-  /* The issue's values, 0.278 / 0.301 / 0.421, to their three decimals. */
+  /* Pollard & Jansson (1982) tristimulus of the 20-harmonic 1/n sawtooth,
+     derived: 0.278 / 0.301 / 0.421, to their three decimals. */
   assert_true(fabs(note.tristimulus[0] - 0.278) <= 0.0015);
   assert_true(fabs(note.tristimulus[1] - 0.301) <= 0.0015);
   assert_true(fabs(note.tristimulus[2] - 0.421) <= 0.0015);
   assert_true(fabs(note.tristimulus[0] - 1.0 / h20) <= 0.0015);
-  /* 1222.99 Hz within 0.5 % (the issue's tolerance). */
+  /* 1222.99 Hz (derived, sum f a / sum a) within 0.5 % (a project choice,
+     no source). */
   assert_true(fabs(note.centroid_hz - 220.0 * 20.0 / h20) <= 0.005 * 1222.99);
   assert_true(fabs(note.centroid_hz - 1222.99) <= 0.005 * 1222.99);
 }
@@ -110,8 +112,9 @@ static void test_sawtooth_odd_even_matches_definition(void **state) {
 
 static void test_odd_only_tones_stand_20_db_above(void **state) {
   (void)state;
-  /* Issue check: odd-only harmonic tones at least 20 dB above all-harmonic
-     ones, here at 40 dB SNR. */
+  /* Odd-only harmonic tones at least 20 dB above all-harmonic ones, here at
+     40 dB SNR (a project choice, no source: an odd-only tone has no even
+     energy at all, so only the noise limits its reading). */
   const double pitches_hz[] = {98.0, 196.0, 392.0, 784.0};
   for (int i = 0; i < 4; ++i) {
     sig_timbre odd = {19, SIG_AMPS_ODD, NULL, 0.0, true, 21 + (uint64_t)i};
@@ -222,12 +225,12 @@ static void test_tristimulus_of_three_partials(void **state) {
 
 static void test_hnr_99_to_1(void **state) {
   (void)state;
-  check_hnr(0.99, 20.0); /* the issue's 20 +- 0.5 dB */
+  check_hnr(0.99, 20.0); /* Boersma (1993): 20 dB (derived), +- 0.5 dB */
 }
 
 static void test_hnr_90_to_10(void **state) {
   (void)state;
-  check_hnr(0.90, 9.5); /* the issue's 9.5 +- 0.5 dB */
+  check_hnr(0.90, 9.5); /* Boersma (1993): 9.5 dB (derived), +- 0.5 dB */
 }
 
 int main(void) {

@@ -1,5 +1,7 @@
 #include "control_messages.h"
 
+#include <limits.h>
+#include <stdlib.h>
 #include <string.h>
 
 /* Starts a patch:Set of `property` at frame 0, up to its patch:value key.
@@ -56,10 +58,43 @@ static bool set_offsets(LV2_Atom_Forge *forge, const host_uris *uris,
   return end_set(forge, &frame, pushed, ok);
 }
 
-bool control_messages_write_parameters(LV2_Atom_Forge *forge,
+static bool set_int(LV2_Atom_Forge *forge, const host_uris *uris,
+                    LV2_URID property, int32_t value) {
+  LV2_Atom_Forge_Frame frame;
+  bool pushed = false;
+  bool ok = begin_set(forge, uris, property, &frame, &pushed) &&
+            lv2_atom_forge_int(forge, value);
+  return end_set(forge, &frame, pushed, ok);
+}
+
+/* The source file, absolute, so that run.json tells two takes of one
+   name from two folders apart wherever it is read from later. */
+static bool set_source(LV2_Atom_Forge *forge, const host_uris *uris,
+                       const control_parameters *parameters) {
+  const char *given = parameters->source_file;
+  bool ok = true;
+  if (given && given[0] && strcmp(given, "-") != 0) {
+    char resolved[PATH_MAX];
+    const char *path =
+        given[0] == '/' || !realpath(given, resolved) ? given : resolved;
+    ok = set_path(forge, uris, uris->plumb_sourceFile, path);
+  }
+  if (ok && parameters->source_channel > 0) {
+    ok = set_int(forge, uris, uris->plumb_sourceChannel,
+                 parameters->source_channel);
+  }
+  return ok;
+}
+
+bool control_messages_write_parameters(LV2_Atom_Forge *caller_forge,
                                        const host_uris *uris, void *buffer,
                                        uint32_t capacity_bytes,
                                        const control_parameters *parameters) {
+  /* The frames below live on this stack, so they are pushed on a copy of
+     the caller's forge that dies with them: the caller's forge never
+     holds their address (gcc's -Wdangling-pointer). */
+  LV2_Atom_Forge local_forge = *caller_forge;
+  LV2_Atom_Forge *forge = &local_forge;
   lv2_atom_forge_set_buffer(forge, buffer, capacity_bytes);
   LV2_Atom_Forge_Frame sequence;
   if (!lv2_atom_forge_sequence_head(forge, &sequence, 0)) {
@@ -73,6 +108,7 @@ bool control_messages_write_parameters(LV2_Atom_Forge *forge,
     ok = ok && set_offsets(forge, uris, uris->plumb_customOffsets,
                            parameters->custom_offsets_cents);
   }
+  ok = ok && set_source(forge, uris, parameters);
   lv2_atom_forge_pop(forge, &sequence);
   return ok;
 }

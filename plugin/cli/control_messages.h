@@ -1,8 +1,8 @@
 /*
   What the host sends on the plugin's control atom port: on the first run
   one patch:Set for each parameter the plugin cannot get from a control
-  port (log folder, take label, custom offsets), all at frame 0; on every
-  later run an empty sequence.
+  port (log folder, take label, custom offsets, source file and channel),
+  all at frame 0; on every later run an empty sequence.
 */
 #ifndef PLUMB_CLI_CONTROL_MESSAGES_H
 #define PLUMB_CLI_CONTROL_MESSAGES_H
@@ -17,6 +17,11 @@ typedef struct {
   const char *log_folder; /* absolute path */
   const char *take_label;
   const double *custom_offsets_cents; /* 12 values, or NULL */
+  /* The take's audio file as given; sent as an absolute path (resolved
+     with realpath() when relative). NULL or "-" (standard input): not
+     sent. */
+  const char *source_file;
+  int source_channel; /* 1 = the first; 0: not sent */
 } control_parameters;
 
 /* Writes the first run's sequence into `buffer` (8-byte aligned). False

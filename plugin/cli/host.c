@@ -137,7 +137,8 @@ static void free_instance(track_run *run) {
 static bool write_parameters(track_run *run) {
   const host_context *context = run->context;
   control_parameters parameters = {context->log_folder, run->track->label,
-                                   context->custom_offsets_cents};
+                                   context->custom_offsets_cents,
+                                   run->track->name, run->track->channel + 1};
   LV2_Atom_Forge forge;
   lv2_atom_forge_init(&forge, urid_table_map_feature(context->urids));
   for (uint32_t i = 0; i < context->layout->count; ++i) {

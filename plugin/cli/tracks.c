@@ -8,6 +8,19 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* At most `limit` of text's first `length` bytes, ending at a whole
+   UTF-8 character. */
+static size_t utf8_cut(const char *text, size_t length, size_t limit) {
+  if (length <= limit) {
+    return length;
+  }
+  size_t cut = limit;
+  while (cut > 0 && ((unsigned char)text[cut] & 0xC0u) == 0x80u) {
+    --cut; /* text[cut] continues a character: cut before it */
+  }
+  return cut;
+}
+
 /* The file name without its folder and its last extension; a name with
    no other dot than a leading one keeps it ("take.01.wav" -> "take.01",
    ".wav" -> ".wav"). Standard input is "stdin". */
@@ -20,6 +33,7 @@ static void file_stem(const char *path, char *stem, size_t size) {
   const char *name = slash ? slash + 1 : path;
   const char *dot = strrchr(name, '.');
   size_t length = dot && dot != name ? (size_t)(dot - name) : strlen(name);
+  length = utf8_cut(name, length, size - 1);
   snprintf(stem, size, "%.*s", (int)length, name);
 }
 
@@ -47,11 +61,7 @@ static void unique_label(const track_plan *plan, const char *wanted,
   for (int n = 2; label_taken(plan, label); ++n) {
     char suffix[16];
     snprintf(suffix, sizeof suffix, "-%d", n);
-    size_t room = PLUMB_LOG_STEM_MAX - strlen(suffix);
-    size_t keep = strlen(wanted) < room ? strlen(wanted) : room;
-    while (keep > 0 && ((unsigned char)wanted[keep] & 0xC0u) == 0x80u) {
-      --keep; /* wanted[keep] continues a character: cut before it */
-    }
+    size_t keep = utf8_cut(wanted, strlen(wanted), PLUMB_LOG_STEM_MAX - strlen(suffix));
     snprintf(label, size, "%.*s%s", (int)keep, wanted, suffix);
   }
 }

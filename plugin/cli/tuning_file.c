@@ -3,7 +3,6 @@
 #include "plumb.h"
 
 #include <errno.h>
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -52,17 +51,24 @@ bool tuning_file_read(const char *path, double offsets_cents[12],
     return false;
   }
   plumb_status status = plumb_tuning_parse_offsets(text, offsets_cents);
+  double beyond_cents = 0.0;
+  int degree = status == PLUMB_ERR_ARGUMENT
+                   ? plumb_tuning_parse_find_beyond_limit(text, &beyond_cents)
+                   : -1;
   free(text);
+  if (degree >= 0) {
+    /* The plugin takes offsets within the same limit only, so the take
+       would otherwise run with other offsets than the file's. */
+    snprintf(reason, reason_size,
+             "holds the offset %g cents (number %d, degree %d), beyond the "
+             "limit of +-%g cents",
+             beyond_cents, degree + 1, degree, PLUMB_CUSTOM_OFFSET_LIMIT_CENTS);
+    return false;
+  }
   if (status != PLUMB_OK) {
     snprintf(reason, reason_size, "does not hold twelve offsets in cents (%s)",
              plumb_strerror(status));
     return false;
-  }
-  for (int i = 0; i < 12; ++i) {
-    if (!isfinite(offsets_cents[i])) {
-      snprintf(reason, reason_size, "offset %d is not a finite number", i + 1);
-      return false;
-    }
   }
   return true;
 }

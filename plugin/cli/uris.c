@@ -24,6 +24,8 @@ bool host_uris_map(host_uris *uris, urid_table *table) {
   map_one(table, URIS_LOG_FOLDER, &uris->plumb_logFolder, &ok);
   map_one(table, URIS_TAKE_LABEL, &uris->plumb_takeLabel, &ok);
   map_one(table, URIS_CUSTOM_OFFSETS, &uris->plumb_customOffsets, &ok);
+  map_one(table, URIS_SOURCE_FILE, &uris->plumb_sourceFile, &ok);
+  map_one(table, URIS_SOURCE_CHANNEL, &uris->plumb_sourceChannel, &ok);
   map_one(table, LV2_PARAMETERS__sampleRate, &uris->param_sampleRate, &ok);
   map_one(table, LV2_BUF_SIZE__minBlockLength, &uris->bufsz_minBlockLength,
           &ok);

@@ -12,6 +12,8 @@
 #define URIS_LOG_FOLDER "urn:plumb:logFolder"
 #define URIS_TAKE_LABEL "urn:plumb:takeLabel"
 #define URIS_CUSTOM_OFFSETS "urn:plumb:customOffsets"
+#define URIS_SOURCE_FILE "urn:plumb:sourceFile"
+#define URIS_SOURCE_CHANNEL "urn:plumb:sourceChannel"
 
 typedef struct {
   LV2_URID atom_Chunk;
@@ -24,6 +26,8 @@ typedef struct {
   LV2_URID plumb_logFolder;
   LV2_URID plumb_takeLabel;
   LV2_URID plumb_customOffsets;
+  LV2_URID plumb_sourceFile;
+  LV2_URID plumb_sourceChannel;
   LV2_URID param_sampleRate;
   LV2_URID bufsz_minBlockLength;
   LV2_URID bufsz_maxBlockLength;

@@ -9,6 +9,7 @@
 #include <fcntl.h>
 #include <string.h>
 #include <sys/file.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 /* Both paths for STEM, or STEM-N when suffix > 1. */
@@ -27,27 +28,63 @@ static int name_files(log_file *file, const char *folder, const char *stem,
   return 0;
 }
 
-/* Opens csv_path and takes the lock. Returns the descriptor, -1 with
-   errno EWOULDBLOCK when a live instance holds it, or -1 with errno. */
+/* Whether `path` names something other than a regular file (a symbolic
+   link, a folder, a FIFO, a device ...); nothing there at all is fine. */
+static bool taken_by_other_kind(const char *path) {
+  struct stat info;
+  return lstat(path, &info) == 0 && !S_ISREG(info.st_mode);
+}
+
+static int fail_closing(int descriptor, int error) {
+  close(descriptor);
+  errno = error;
+  return -1;
+}
+
+/* Opens csv_path and takes the lock. Returns the descriptor; -1 with
+   errno EWOULDBLOCK when a live instance holds it, LOG_FILE_REFUSED when
+   the name is not a regular file's, or another errno. O_NOFOLLOW: a
+   symbolic link at the name is never followed, so a link planted there
+   cannot send the truncation below to another file; O_NONBLOCK: a FIFO
+   cannot hang the open; fstat: whatever was opened must be a regular
+   file (POSIX open(), fstat()). */
 static int claim(const char *path) {
-  int descriptor = open(path, O_WRONLY | O_CREAT | O_CLOEXEC, 0666);
+  int descriptor = open(path, O_WRONLY | O_CREAT | O_CLOEXEC | O_NOFOLLOW |
+                                  O_NONBLOCK | O_NOCTTY,
+                        0666);
   if (descriptor < 0) {
+    int error = errno;
+    errno = (error == ELOOP || error == EISDIR || error == ENXIO)
+                ? LOG_FILE_REFUSED
+                : error;
     return -1;
   }
+  struct stat info;
+  if (fstat(descriptor, &info) != 0) {
+    return fail_closing(descriptor, errno);
+  }
+  if (!S_ISREG(info.st_mode)) {
+    return fail_closing(descriptor, LOG_FILE_REFUSED);
+  }
+  int flags = fcntl(descriptor, F_GETFL);
+  if (flags < 0 || fcntl(descriptor, F_SETFL, flags & ~O_NONBLOCK) != 0) {
+    return fail_closing(descriptor, errno);
+  }
   if (flock(descriptor, LOCK_EX | LOCK_NB) != 0) {
-    int error = errno;
-    close(descriptor);
-    errno = error;
-    return -1;
+    return fail_closing(descriptor, errno);
   }
   /* Ours now: an older take's rows go only once we hold the lock. */
   if (ftruncate(descriptor, 0) != 0) {
-    int error = errno;
-    close(descriptor);
-    errno = error;
-    return -1;
+    return fail_closing(descriptor, errno);
   }
   return descriptor;
+}
+
+/* Notes the first name that was refused, for the writer to report. */
+static void note_refused(log_file *file, const char *path) {
+  if (!file->refused[0]) {
+    snprintf(file->refused, sizeof file->refused, "%s", path);
+  }
 }
 
 static int start_csv(log_file *file, int descriptor) {
@@ -72,6 +109,7 @@ static int start_csv(log_file *file, int descriptor) {
 int log_file_open(log_file *file, const char *folder, const char *stem,
                   const char **why) {
   file->csv = NULL;
+  file->refused[0] = '\0';
   *why = "create the folder";
   int error = log_path_make_folders(folder);
   for (int suffix = 1; !error && suffix <= LOG_FILE_MAX_SUFFIX; ++suffix) {
@@ -80,13 +118,24 @@ int log_file_open(log_file *file, const char *folder, const char *stem,
     if (error) {
       break;
     }
+    /* run.json is renamed into place, which replaces a link rather than
+       following it; a folder or FIFO there would still make it fail. */
+    if (taken_by_other_kind(file->json_path)) {
+      note_refused(file, file->json_path);
+      continue;
+    }
     *why = "open the notes file in";
     int descriptor = claim(file->csv_path);
     if (descriptor >= 0) {
       *why = "write the header row in";
       return start_csv(file, descriptor);
     }
-    error = (errno == EWOULDBLOCK || errno == EAGAIN) ? 0 : errno;
+    if (errno == LOG_FILE_REFUSED) {
+      note_refused(file, file->csv_path);
+      error = 0;
+    } else {
+      error = (errno == EWOULDBLOCK || errno == EAGAIN) ? 0 : errno;
+    }
   }
   if (!error) {
     *why = "find a free file name (all suffixes in use) in";

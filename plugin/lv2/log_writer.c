@@ -48,6 +48,8 @@ struct log_writer {
   atomic_bool take_active;
   atomic_bool popping;
   atomic_uint take_number;
+  atomic_int_least64_t activation_us; /* the take's activation, for run_id */
+  atomic_uint activation_serial;      /* activations counted in the process */
   atomic_bool close_wanted; /* a take ended while a step held the lock */
   atomic_uint steps_begun;  /* steps so far, counted as they start */
   atomic_uint steps_ended;  /* ... and as they end */
@@ -61,6 +63,8 @@ struct log_writer {
   log_file file;       /* file.csv != NULL while a take is open */
   run_record record;
   char record_label[PLUMB_LV2_LABEL_MAX];
+  char record_source[PLUMB_LV2_FOLDER_MAX];
+  char run_id[64]; /* the take's, made when a step first sees it */
   char session_folder[PLUMB_LV2_FOLDER_MAX]; /* from make_path; "" if none */
   unsigned session_asked_take; /* the take make_path was last called in, 0: never */
   bool target_failed; /* opening failed; retried for a new target/take */
@@ -116,8 +120,13 @@ static void start_record(log_writer *writer) {
   memset(record, 0, sizeof *record);
   snprintf(writer->record_label, sizeof writer->record_label, "%s",
            writer->current.parameters.take_label);
+  snprintf(writer->record_source, sizeof writer->record_source, "%s",
+           writer->current.parameters.source_file);
   record->stem = writer->file.stem;
   record->take_label = writer->record_label;
+  record->run_id = writer->run_id;
+  record->source_file = writer->record_source;
+  record->source_channel = writer->current.parameters.source_channel;
   record->sample_rate_hz = writer->sample_rate_hz;
   record->settings = writer->current.settings;
   run_json_time(time(NULL), record->start_time);
@@ -188,6 +197,14 @@ static void open_take_when_wanted(log_writer *writer) {
   }
   const char *why = "";
   int error = log_file_open(&writer->file, folder, stem, &why);
+  if (writer->file.refused[0]) {
+    lv2_log_warning(&writer->logger,
+                    "plumb: %s is not a regular file (a link, folder, FIFO "
+                    "...); it is left untouched%s.\n",
+                    writer->file.refused,
+                    error ? "" : " and the take is logged under the next free "
+                                 "name");
+  }
   if (error) {
     writer->target_failed = true;
     report_error(writer, why, folder, error);
@@ -312,6 +329,8 @@ static void start_new_take_if_any(log_writer *writer) {
   unsigned take = atomic_load(&writer->take_number);
   if (take != writer->take_seen) {
     writer->take_seen = take;
+    run_json_make_id(atomic_load(&writer->activation_us),
+                     atomic_load(&writer->activation_serial), writer->run_id);
     writer->target_failed = false; /* a new take tries the folder again */
   }
 }
@@ -422,6 +441,13 @@ void log_writer_free(log_writer *writer) {
 }
 
 void log_writer_begin_take(log_writer *writer) {
+  static atomic_uint activations; /* in this process, for run_id */
+  struct timespec now;
+  clock_gettime(CLOCK_REALTIME, &now);
+  atomic_store(&writer->activation_us,
+               (int_least64_t)now.tv_sec * 1000000 + now.tv_nsec / 1000);
+  atomic_store(&writer->activation_serial,
+               atomic_fetch_add(&activations, 1u) + 1u);
   plumb_counts zero;
   memset(&zero, 0, sizeof zero);
   log_writer_publish_counts(writer, &zero);

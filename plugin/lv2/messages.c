@@ -19,7 +19,18 @@ static const char *const complaint_texts[COMPLAINT_BITS] = {
     "customOffsets must be an atom:Vector of 12 atom:Float; ignored",
     "customOffsets must be finite and within +-600 cents; ignored",
     "a patch:Get answer did not fit in the notify port; it was dropped",
-    "the analysis refused the new control settings; the previous ones stay"};
+    "the analysis refused the new control settings; the previous ones stay",
+    "the log folder must be an absolute path (starting with /), so that the "
+    "log never lands wherever the host happens to run; the previous folder "
+    "stays",
+    "the source file must be an atom:Path (or atom:String) of at most 4095 "
+    "bytes; the previous one stays",
+    "the source channel must be an atom:Int of 1 or more (1 = the first "
+    "channel); the previous one stays",
+    "a saved value was too large to restore (over 4 KB); the previous value "
+    "stays",
+    "the host could not map the saved log folder back to a path "
+    "(state:mapPath's absolute_path gave none); the previous folder stays"};
 
 const char *messages_complaint_text(unsigned complaint) {
   for (unsigned bit = 0; bit < COMPLAINT_BITS; ++bit) {
@@ -55,6 +66,12 @@ static unsigned set_folder(const plumb_uris *uris, const LV2_Atom *value,
   const char *folder = atom_text(value, &length);
   if (length >= PLUMB_LV2_FOLDER_MAX) {
     *complaints |= COMPLAINT_FOLDER_TOO_LONG;
+    return 0;
+  }
+  /* A relative folder would be resolved against the host's working
+     directory, which no user chooses: refused ("" still means unset). */
+  if (length > 0 && folder[0] != '/') {
+    *complaints |= COMPLAINT_FOLDER_NOT_ABSOLUTE;
     return 0;
   }
   if (strlen(parameters->log_folder) == length &&
@@ -98,6 +115,47 @@ static unsigned set_label(const plumb_uris *uris, const LV2_Atom *value,
   memcpy(parameters->take_label, label, kept);
   parameters->take_label[kept] = '\0';
   return MESSAGE_CHANGED_LOG_TARGET;
+}
+
+/* Recorded in run.json only: a new source does not start a new log. */
+static unsigned set_source_file(const plumb_uris *uris, const LV2_Atom *value,
+                                plumb_lv2_parameters *parameters,
+                                unsigned *complaints) {
+  size_t length = 0;
+  const char *path = NULL;
+  if (value->type == uris->atom_Path || value->type == uris->atom_String) {
+    path = atom_text(value, &length);
+  }
+  if (!path || length >= PLUMB_LV2_FOLDER_MAX) {
+    *complaints |= COMPLAINT_SOURCE_FILE_REFUSED;
+    return 0;
+  }
+  if (strlen(parameters->source_file) == length &&
+      memcmp(parameters->source_file, path, length) == 0) {
+    return 0;
+  }
+  memcpy(parameters->source_file, path, length);
+  parameters->source_file[length] = '\0';
+  return MESSAGE_CHANGED_SOURCE;
+}
+
+static unsigned set_source_channel(const plumb_uris *uris,
+                                   const LV2_Atom *value,
+                                   plumb_lv2_parameters *parameters,
+                                   unsigned *complaints) {
+  int32_t channel = 0;
+  if (value->type == uris->atom_Int && value->size >= sizeof(int32_t)) {
+    channel = ((const LV2_Atom_Int *)value)->body;
+  }
+  if (channel < 1) {
+    *complaints |= COMPLAINT_SOURCE_CHANNEL_REFUSED;
+    return 0;
+  }
+  if (channel == parameters->source_channel) {
+    return 0;
+  }
+  parameters->source_channel = channel;
+  return MESSAGE_CHANGED_SOURCE;
 }
 
 /* Twelve finite offsets from a Vector of Float (or Double), or false. */
@@ -166,6 +224,12 @@ unsigned messages_apply_set(const plumb_uris *uris, const LV2_Atom_Object *set,
   if (key == uris->plumb_customOffsets) {
     return set_offsets(uris, value, parameters, complaints);
   }
+  if (key == uris->plumb_sourceFile) {
+    return set_source_file(uris, value, parameters, complaints);
+  }
+  if (key == uris->plumb_sourceChannel) {
+    return set_source_channel(uris, value, parameters, complaints);
+  }
   return 0;
 }
 
@@ -182,6 +246,13 @@ static LV2_Atom_Forge_Ref forge_value(const plumb_uris *uris, LV2_URID key,
   if (key == uris->plumb_takeLabel) {
     const char *label = parameters->take_label;
     return lv2_atom_forge_string(forge, label, (uint32_t)strlen(label));
+  }
+  if (key == uris->plumb_sourceFile) {
+    const char *path = parameters->source_file;
+    return lv2_atom_forge_path(forge, path, (uint32_t)strlen(path));
+  }
+  if (key == uris->plumb_sourceChannel) {
+    return lv2_atom_forge_int(forge, parameters->source_channel);
   }
   float offsets_cents[12];
   for (int degree = 0; degree < 12; ++degree) {
@@ -202,7 +273,8 @@ static LV2_Atom_Forge_Ref forge_value(const plumb_uris *uris, LV2_URID key,
 
 static bool is_our_property(const plumb_uris *uris, LV2_URID key) {
   return key == uris->plumb_logFolder || key == uris->plumb_takeLabel ||
-         key == uris->plumb_customOffsets;
+         key == uris->plumb_customOffsets || key == uris->plumb_sourceFile ||
+         key == uris->plumb_sourceChannel;
 }
 
 /* patch:subject and patch:sequenceNumber, copied from the request. */
@@ -233,14 +305,22 @@ static bool forge_set_answer(const plumb_uris *uris, LV2_URID key,
 static bool forge_put_body(const plumb_uris *uris,
                            const plumb_lv2_parameters *parameters,
                            LV2_Atom_Forge *forge) {
-  const LV2_URID keys[3] = {uris->plumb_logFolder, uris->plumb_takeLabel,
-                            uris->plumb_customOffsets};
+  LV2_URID keys[5] = {uris->plumb_logFolder, uris->plumb_takeLabel,
+                      uris->plumb_customOffsets};
+  int count = 3;
+  /* The source file and channel only once a host has told them. */
+  if (parameters->source_file[0]) {
+    keys[count++] = uris->plumb_sourceFile;
+  }
+  if (parameters->source_channel > 0) {
+    keys[count++] = uris->plumb_sourceChannel;
+  }
   LV2_Atom_Forge_Frame body;
   if (!lv2_atom_forge_key(forge, uris->patch_body) ||
       !lv2_atom_forge_object(forge, &body, 0, 0)) {
     return false;
   }
-  for (int i = 0; i < 3; ++i) {
+  for (int i = 0; i < count; ++i) {
     if (!lv2_atom_forge_key(forge, keys[i]) ||
         !forge_value(uris, keys[i], parameters, forge)) {
       return false;

@@ -1,6 +1,7 @@
 /*
   plumb LV2: the parameters that are not ports (log folder, take label,
-  custom offsets), set with patch:Set and read back with patch:Get.
+  custom offsets, and the source file and channel a host may tell), set
+  with patch:Set and read back with patch:Get.
 
   Every call here is [RT]: it reads atoms, copies into fixed buffers and
   forges replies into the notify port, with no allocation and no system
@@ -25,12 +26,15 @@ typedef struct {
   char log_folder[PLUMB_LV2_FOLDER_MAX]; /* "" = not set: defaults apply */
   char take_label[PLUMB_LV2_LABEL_MAX];  /* "" = not set: automatic stem */
   double custom_offsets_cents[12];       /* degree 0 = the tonic */
+  char source_file[PLUMB_LV2_FOLDER_MAX]; /* "" = not told by the host */
+  int32_t source_channel;                 /* 1 = the first; 0 = not told */
 } plumb_lv2_parameters;
 
 /* What a patch:Set changed. */
 enum {
   MESSAGE_CHANGED_LOG_TARGET = 1u << 0, /* log folder or take label */
-  MESSAGE_CHANGED_OFFSETS = 1u << 1
+  MESSAGE_CHANGED_OFFSETS = 1u << 1,
+  MESSAGE_CHANGED_SOURCE = 1u << 2 /* source file or channel: run.json only */
 };
 
 /* What went wrong in run() (mostly in a message); the writer thread logs
@@ -44,7 +48,12 @@ enum {
   COMPLAINT_OFFSETS_OUT_OF_RANGE = 1u << 5,
   COMPLAINT_REPLY_DID_NOT_FIT = 1u << 6,
   COMPLAINT_SETTINGS_REJECTED = 1u << 7,
-  COMPLAINT_BITS = 8
+  COMPLAINT_FOLDER_NOT_ABSOLUTE = 1u << 8,
+  COMPLAINT_SOURCE_FILE_REFUSED = 1u << 9,
+  COMPLAINT_SOURCE_CHANNEL_REFUSED = 1u << 10,
+  COMPLAINT_STATE_VALUE_TOO_BIG = 1u << 11,
+  COMPLAINT_STATE_PATH_UNMAPPED = 1u << 12,
+  COMPLAINT_BITS = 13
 };
 
 /* A sentence for one complaint bit; "" for a bit that is not one. */
@@ -63,7 +72,8 @@ unsigned messages_apply_set(const plumb_uris *uris, const LV2_Atom_Object *set,
 /* Answer one patch:Get at `frame` on the forge, which must be writing
    into the notify sequence (its top frame). With a patch:property of ours
    the answer is a patch:Set of it; with none, a patch:Put whose body
-   holds all three. A given patch:subject and patch:sequenceNumber are
+   holds the folder, the label and the offsets, and the source file and
+   channel when a host has told them. A given patch:subject and patch:sequenceNumber are
    echoed. Returns false, and leaves the sequence as it was, when the
    answer does not fit in the buffer. */
 bool messages_answer_get(const plumb_uris *uris, const LV2_Atom_Object *get,

@@ -7,7 +7,9 @@
 #include "plumb_csv.h"
 
 #include <errno.h>
+#include <fcntl.h>
 #include <inttypes.h>
+#include <stdatomic.h>
 #include <stdbool.h>
 #include <stdio.h>
 #include <string.h>
@@ -50,9 +52,14 @@ static size_t utf8_sequence_length(const unsigned char *text) {
   return length;
 }
 
-/* A JSON string (RFC 8259). Bytes that are not valid UTF-8 are written
-   as the Latin-1 character of the same number, so the file stays valid
-   JSON whatever a label holds. */
+/* A JSON string (RFC 8259): the quote and the backslash escaped, every
+   control character (U+0000..U+001F, and DEL) as \u00XX. Each byte that
+   does not begin a valid UTF-8 sequence (RFC 3629) is written escaped as
+   \u00XX, its own number: the file stays valid UTF-8 and valid JSON
+   whatever a label or path holds, never ends inside a character, and
+   loses nothing, since a reader gets the exact bytes back (a character
+   U+0080..U+00FF that was valid UTF-8 is always written as itself, never
+   escaped, so the escape is unambiguous). */
 static void put_string(FILE *stream, const char *text) {
   fputc('"', stream);
   for (const unsigned char *c = (const unsigned char *)text; *c;) {
@@ -66,7 +73,7 @@ static void put_string(FILE *stream, const char *text) {
     } else {
       size_t length = utf8_sequence_length(c);
       if (length == 0) {
-        fprintf(stream, "\\u%04x", (unsigned)*c++);
+        fprintf(stream, "\\u%04x", (unsigned)*c++); /* the byte, escaped */
       } else {
         fwrite(c, 1, length, stream);
         c += length;
@@ -148,6 +155,30 @@ static void put_bool_field(FILE *stream, const char *key, bool value) {
   fputs(value ? "true,\n" : "false,\n", stream);
 }
 
+void run_json_make_id(int64_t activation_us, unsigned serial, char id[64]) {
+  time_t seconds = (time_t)(activation_us / 1000000);
+  long micro = (long)(activation_us % 1000000);
+  struct tm utc;
+  char when[32] = "00000000T000000";
+  if (gmtime_r(&seconds, &utc)) {
+    strftime(when, sizeof when, "%Y%m%dT%H%M%S", &utc);
+  }
+  snprintf(id, 64, "%s.%06ldZ-%ld-%u", when, micro < 0 ? 0L : micro,
+           (long)getpid(), serial);
+}
+
+/* The source keys only when the host told them (docs/log-format.md). */
+static void put_source(FILE *stream, const run_record *record) {
+  if (record->source_file && record->source_file[0]) {
+    put_key(stream, "source_file");
+    put_string(stream, record->source_file);
+    fputs(",\n", stream);
+  }
+  if (record->source_channel > 0) {
+    fprintf(stream, "  \"source_channel\": %d,\n", (int)record->source_channel);
+  }
+}
+
 int run_json_print(FILE *stream, const run_record *record) {
   char notes_file[256];
   snprintf(notes_file, sizeof notes_file, "%s.notes.csv", record->stem);
@@ -158,6 +189,8 @@ int run_json_print(FILE *stream, const run_record *record) {
   put_text_field(stream, "take", record->stem);
   put_text_field(stream, "take_label", record->take_label);
   put_text_field(stream, "notes_file", notes_file);
+  put_text_field(stream, "run_id", record->run_id ? record->run_id : "");
+  put_source(stream, record);
   /* the writing process, so that a host can tell its own log from another
      instance's of the same label (which get -2, -3 ... stems) */
   fprintf(stream, "  \"process_id\": %ld,\n", (long)getpid());
@@ -192,15 +225,45 @@ static int write_whole(FILE *stream, const run_record *record) {
   return fsync(fileno(stream)) == 0 ? 0 : errno;
 }
 
+/* A name of its own in the same folder (so that rename() is atomic),
+   created new with O_EXCL: never an existing file or a link planted at
+   the name (POSIX open()). Returns the stream, or NULL with errno. */
+static FILE *create_temporary(const char *path, char *temporary, size_t size) {
+  static atomic_uint serial;
+  for (int attempt = 0; attempt < 16; ++attempt) {
+    unsigned n = atomic_fetch_add(&serial, 1u) + 1u;
+    int length = snprintf(temporary, size, "%s.tmp-%ld-%u", path,
+                          (long)getpid(), n);
+    if (length < 0 || (size_t)length >= size) {
+      errno = ENAMETOOLONG;
+      return NULL;
+    }
+    int descriptor =
+        open(temporary, O_WRONLY | O_CREAT | O_EXCL | O_NOFOLLOW | O_CLOEXEC,
+             0666);
+    if (descriptor < 0 && errno == EEXIST) {
+      continue; /* left by a crash of an earlier process of this id */
+    }
+    if (descriptor < 0) {
+      return NULL;
+    }
+    FILE *stream = fdopen(descriptor, "w");
+    if (!stream) {
+      int error = errno;
+      close(descriptor);
+      unlink(temporary);
+      errno = error;
+    }
+    return stream;
+  }
+  errno = EEXIST;
+  return NULL;
+}
+
 int run_json_write(const char *path, const run_record *record) {
   char temporary[4200];
-  int length =
-      snprintf(temporary, sizeof temporary, "%s.tmp-%ld", path, (long)getpid());
-  if (length < 0 || (size_t)length >= sizeof temporary) {
-    return ENAMETOOLONG;
-  }
   errno = 0;
-  FILE *stream = fopen(temporary, "w");
+  FILE *stream = create_temporary(path, temporary, sizeof temporary);
   if (!stream) {
     return errno ? errno : EIO;
   }
@@ -208,6 +271,8 @@ int run_json_write(const char *path, const run_record *record) {
   if (fclose(stream) != 0 && !error) {
     error = errno ? errno : EIO;
   }
+  /* rename() replaces whatever is at path itself, a link included,
+     and never writes through it. */
   if (!error && rename(temporary, path) != 0) {
     error = errno;
   }

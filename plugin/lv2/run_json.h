@@ -26,6 +26,9 @@ typedef struct {
 typedef struct {
   const char *stem;       /* the files' common name */
   const char *take_label; /* as set on the plugin; "" when not set */
+  const char *run_id;     /* the activation's id (run_json_make_id) */
+  const char *source_file; /* as the host told it; NULL or "": not told */
+  int32_t source_channel;  /* 1 = the first; 0: not told */
   double sample_rate_hz;
   take_settings settings; /* as at the start of the take */
   bool settings_changed;  /* the user changed them during the take */
@@ -43,7 +46,13 @@ void run_json_time(time_t now, char text[32]);
    the locale). Returns 0, or -1 when the stream reports an error. */
 int run_json_print(FILE *stream, const run_record *record);
 
-/* Writes path via path.tmp-<pid> and rename(). Returns 0 or an errno. */
+/* The id of one activation: its UTC time to the microsecond, the process
+   id and `serial` (activations counted in the process), e.g.
+   "20310402T190511.123456Z-4182-3". [non-RT] */
+void run_json_make_id(int64_t activation_us, unsigned serial, char id[64]);
+
+/* Writes path via a new path.tmp-<pid>-<n> (O_EXCL) and rename().
+   Returns 0 or an errno. */
 int run_json_write(const char *path, const run_record *record);
 
 #endif /* PLUMB_LV2_RUN_JSON_H */

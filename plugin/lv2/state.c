@@ -146,13 +146,17 @@ static unsigned apply_value(const state_restorer *restorer, LV2_URID key,
   LV2_Atom_Forge forge = *restorer->forge;
   LV2_Atom_Forge_Frame frame;
   lv2_atom_forge_set_buffer(&forge, buffer, sizeof buffer);
-  if (size > PLUMB_LV2_FOLDER_MAX + 64 ||
-      !lv2_atom_forge_object(&forge, &frame, 0, uris->patch_Set) ||
+  if (size > PLUMB_LV2_FOLDER_MAX + 64) {
+    *restorer->complaints |= COMPLAINT_STATE_VALUE_TOO_BIG; /* said, not lost */
+    return 0;
+  }
+  if (!lv2_atom_forge_object(&forge, &frame, 0, uris->patch_Set) ||
       !lv2_atom_forge_key(&forge, uris->patch_property) ||
       !lv2_atom_forge_urid(&forge, key) ||
       !lv2_atom_forge_key(&forge, uris->patch_value) ||
       !lv2_atom_forge_atom(&forge, (uint32_t)size, type) ||
       !lv2_atom_forge_write(&forge, value, (uint32_t)size)) {
+    *restorer->complaints |= COMPLAINT_STATE_VALUE_TOO_BIG;
     return 0;
   }
   lv2_atom_forge_pop(&forge, &frame);
@@ -173,6 +177,7 @@ static unsigned apply_folder(const state_restorer *restorer, const void *value,
   }
   char *absolute = map_path->absolute_path(map_path->handle, value);
   if (!absolute) {
+    *restorer->complaints |= COMPLAINT_STATE_PATH_UNMAPPED;
     return 0;
   }
   unsigned changed = apply_value(restorer, key, absolute, strlen(absolute) + 1,

@@ -14,6 +14,8 @@
 #define PLUMB_URI_LOG_FOLDER "urn:plumb:logFolder"
 #define PLUMB_URI_TAKE_LABEL "urn:plumb:takeLabel"
 #define PLUMB_URI_CUSTOM_OFFSETS "urn:plumb:customOffsets"
+#define PLUMB_URI_SOURCE_FILE "urn:plumb:sourceFile"
+#define PLUMB_URI_SOURCE_CHANNEL "urn:plumb:sourceChannel"
 #define PLUMB_URI_NOTE "urn:plumb:Note"
 #define PLUMB_URI_NOTE_PREFIX "urn:plumb:note#" /* then the field's name */
 
@@ -58,6 +60,8 @@ typedef struct {
   LV2_URID plumb_logFolder;
   LV2_URID plumb_takeLabel;
   LV2_URID plumb_customOffsets;
+  LV2_URID plumb_sourceFile;
+  LV2_URID plumb_sourceChannel;
   LV2_URID plumb_Note;
   PLUMB_NOTE_INT_FIELDS(PLUMB_NOTE_KEY_FIELD)
   PLUMB_NOTE_DOUBLE_FIELDS(PLUMB_NOTE_KEY_FIELD)
@@ -93,6 +97,8 @@ static inline void plumb_uris_map(plumb_uris *uris, LV2_URID_Map *map) {
   uris->plumb_logFolder = get(handle, PLUMB_URI_LOG_FOLDER);
   uris->plumb_takeLabel = get(handle, PLUMB_URI_TAKE_LABEL);
   uris->plumb_customOffsets = get(handle, PLUMB_URI_CUSTOM_OFFSETS);
+  uris->plumb_sourceFile = get(handle, PLUMB_URI_SOURCE_FILE);
+  uris->plumb_sourceChannel = get(handle, PLUMB_URI_SOURCE_CHANNEL);
   uris->plumb_Note = get(handle, PLUMB_URI_NOTE);
 #define PLUMB_NOTE_KEY_MAP(name)                                               \
   uris->note_##name = get(handle, PLUMB_URI_NOTE_PREFIX #name);

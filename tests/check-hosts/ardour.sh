@@ -1,7 +1,8 @@
 #!/bin/sh
 # plumb in Ardour 7's headless tools (Debian package ardour: ardour7-lua,
 # ardour7-export) on the Dummy backend, no display, no sound card
-# (shared/HOSTS.md, "A workstation, headless"). Run by `make check-hosts`:
+# (measured on Debian 12, ardour 7.3: both run headless there; see
+# docs/hosts.md). Run by `make check-hosts`:
 #
 #   sh tests/check-hosts/ardour.sh BUILD_DIR
 #

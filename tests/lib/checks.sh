@@ -65,7 +65,8 @@ require_lv2file_hosts() {
 }
 
 # link_bundle: $WORK/lv2, for LV2_PATH, which names folders that hold
-# bundles (HOSTS.md): a folder holding only a link to this build's bundle,
+# bundles, not the bundles themselves (measured on Debian 12, lilv
+# 0.24.14): a folder holding only a link to this build's bundle,
 # so lilv reads no other folder of the build as a bundle and no installed
 # plumb is picked up.
 link_bundle() {

@@ -8,7 +8,8 @@
   overlapping notes keep independent detunes. The bend range is set with
   RPN 0 to SAMPLED_BEND_RANGE_SEMITONES; one 14-bit step is
   SAMPLED_BEND_STEP_CENTS. fluidsynth floors the total pitch of a voice
-  to whole cents (shared/HOSTS.md), so for an exact relative detune ask
+  to whole cents (measured on Debian 12, fluidsynth 2.3.1), so for an
+  exact relative detune ask
   for whole cents + 0.3 on both the reference note and the detuned one:
   their difference is then the whole-cent difference exactly.
 
