@@ -48,7 +48,7 @@ PRESETS   := $(wildcard presets/*.ttl)
 .SECONDARY:
 
 .PHONY: all deps check demo bench clean install install-user uninstall \
-        check-ttl check-unit check-hosts format
+        check-ttl check-unit check-hosts check-sanitize format
 
 all: $(BUNDLE)/plumb.so $(BUNDLE)/manifest.ttl $(BUILD)/plumb
 
@@ -66,9 +66,13 @@ $(BUILD)/libplumb.a: $(CORE_OBJ)
 	rm -f $@ && ar rcs $@ $^
 
 # ----------------------------------------------------------------- plugin
+# -z nodelete: a host's dlclose() leaves the plugin (and so libfftw3f,
+# which keeps its planner's memory until fftwf_cleanup(), unsafe to call
+# in a library others share) loaded, so that loading it again reuses that
+# memory instead of losing it on every unload.
 $(BUNDLE)/plumb.so: $(LV2_OBJ) $(BUILD)/libplumb.a
 	@mkdir -p $(dir $@)
-	$(CC) -shared -Wl,--exclude-libs,ALL -Wl,-z,defs -o $@ $(LV2_OBJ) \
+	$(CC) $(LDFLAGS) -shared -Wl,--exclude-libs,ALL -Wl,-z,defs -Wl,-z,nodelete -o $@ $(LV2_OBJ) \
 	    $(BUILD)/libplumb.a $(FFTW_LIBS) -lpthread -lm
 
 $(BUNDLE)/manifest.ttl: ttl/manifest.ttl.in $(TTL_SRC) $(PRESETS)
@@ -79,7 +83,7 @@ $(BUNDLE)/manifest.ttl: ttl/manifest.ttl.in $(TTL_SRC) $(PRESETS)
 
 # ---------------------------------------------------------------- command
 $(BUILD)/plumb: $(CLI_OBJ) $(BUILD)/libplumb.a
-	$(CC) -o $@ $(CLI_OBJ) $(BUILD)/libplumb.a \
+	$(CC) $(LDFLAGS) -o $@ $(CLI_OBJ) $(BUILD)/libplumb.a \
 	    $(shell pkg-config --libs lilv-0 sndfile 2>/dev/null) $(FFTW_LIBS) -lpthread -lm
 
 # ------------------------------------------------------------------ tests
@@ -88,13 +92,13 @@ $(BUILD)/plumb: $(CLI_OBJ) $(BUILD)/libplumb.a
 # the tests changes.
 $(BUILD)/tests/%: tests/%.c $(SIG_OBJ) $(BUILD)/libplumb.a
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -MMD -MP -MF $@.d -o $@ $< $(SIG_OBJ) \
+	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -MMD -MP -MF $@.d $(LDFLAGS) -o $@ $< $(SIG_OBJ) \
 	    $(BUILD)/libplumb.a $(shell pkg-config --libs cmocka sndfile 2>/dev/null) \
 	    $(FFTW_LIBS) -lpthread -lm -ldl
 
 $(BUILD)/tests/test_sampled_%: tests/sampled/test_%.c $(SIG_OBJ) $(BUILD)/libplumb.a
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -Itests/sampled -MMD -MP -MF $@.d -o $@ $< $(SIG_OBJ) \
+	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -Itests/sampled -MMD -MP -MF $@.d $(LDFLAGS) -o $@ $< $(SIG_OBJ) \
 	    $(BUILD)/libplumb.a $(shell pkg-config --libs cmocka sndfile 2>/dev/null) \
 	    $(FFTW_LIBS) -lpthread -lm -ldl
 
@@ -143,7 +147,7 @@ TOOL_BIN := $(TOOL_SRC:tools/%.c=$(BUILD)/tools/%)
 tools: $(TOOL_BIN)
 $(BUILD)/tools/%: tools/%.c $(SIG_OBJ) $(BUILD)/libplumb.a
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -MMD -MP -MF $@.d -o $@ $< $(SIG_OBJ) \
+	$(CC) $(ALL_CFLAGS) $(PKG_CFLAGS) -Itests -MMD -MP -MF $@.d $(LDFLAGS) -o $@ $< $(SIG_OBJ) \
 	    $(BUILD)/libplumb.a $(shell pkg-config --libs sndfile 2>/dev/null) \
 	    $(FFTW_LIBS) -lpthread -lm
 
@@ -152,3 +156,8 @@ $(BUILD)/tools/%: tools/%.c $(SIG_OBJ) $(BUILD)/libplumb.a
 # heavy for `make check`; see tests/check-hosts/ardour.sh.
 check-hosts: all
 	@sh tests/check-hosts/ardour.sh $(BUILD)
+
+# ------------------------------------------------------------ reliability
+# Fuzz harnesses (clang's libFuzzer), in their own file.
+-include tests/fuzz/fuzz.mk
+-include tests/sanitize.mk

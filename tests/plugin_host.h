@@ -182,11 +182,13 @@ static inline void host_features_add(host_features *f, const char *uri,
 
 typedef union {
   LV2_Atom_Sequence sequence;
+  uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
   uint8_t bytes[HOST_CONTROL_BYTES];
 } host_control_buffer;
 
 typedef union {
   LV2_Atom_Sequence sequence;
+  uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
   uint8_t bytes[HOST_NOTIFY_BYTES];
 } host_notify_buffer;
 

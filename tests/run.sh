@@ -13,6 +13,13 @@
 # One result line a suite; a failing suite's whole output is shown. The
 # last line is the totals, "N passed, N failed". The exit status is 1
 # when anything failed or when no test ran.
+#
+# PLUMB_TEST_SKIP, when set, names a file of suites not to run, one a
+# line: the suite's name (a test binary's or a host test script's file
+# name, e.g. test_realtime or jalv.sh), then the reason; '#' starts a
+# comment. Each listed suite gets a line "SKIP  NAME (REASON)", whether
+# or not its binary was built. `make check-sanitize` uses it
+# (tests/sanitize/skip).
 
 if [ "$#" -ne 1 ]; then
   echo "usage: sh tests/run.sh BUILD_DIR" >&2
@@ -47,6 +54,46 @@ result() {
     sed 's/^/    | /' "$out"
   fi
 }
+
+skip_list=${PLUMB_TEST_SKIP:-}
+if [ -n "$skip_list" ] && [ ! -r "$skip_list" ]; then
+  echo "PLUMB_TEST_SKIP: cannot read $skip_list" >&2
+  exit 2
+fi
+skipped_suites=0
+
+# skip_reason NAME: prints why NAME is listed in PLUMB_TEST_SKIP and
+# succeeds, or fails when it is not listed.
+skip_reason() {
+  [ -n "$skip_list" ] || return 1
+  awk -v name="$1" '
+    { sub(/#.*/, "") }
+    $1 == name { sub(/^[ \t]*[^ \t]+[ \t]*/, ""); print; found = 1; exit }
+    END { exit !found }' "$skip_list"
+}
+
+# skipped NAME REASON: the suite's SKIP line.
+skipped() {
+  skipped_suites=$((skipped_suites + 1))
+  printf 'SKIP  %-32s (%s)\n' "$1" "${2:-no reason given}"
+}
+
+# skip_unbuilt PATTERN: a SKIP line for every listed suite whose name
+# matches PATTERN but that the loop over the built ones did not meet.
+skip_unbuilt() {
+  [ -n "$skip_list" ] || return 0
+  for name in $(sed 's/#.*//' "$skip_list" | awk 'NF { print $1 }'); do
+    case "$name" in
+    $1) ;;
+    *) continue ;;
+    esac
+    case " $skip_seen " in
+    *" $name "*) continue ;;
+    esac
+    skipped "$name" "$(skip_reason "$name")"
+  done
+}
+skip_seen=""
 
 # Sum the N of every line "[  WORD  ] N test(s)" that cmocka printed.
 cmocka_count() {
@@ -137,8 +184,15 @@ run_unit_tests() {
   for binary in "$build"/tests/test_*; do
     [ -f "$binary" ] && [ -x "$binary" ] || continue
     found=1
+    name=$(basename "$binary")
+    if reason=$(skip_reason "$name"); then
+      skip_seen="$skip_seen $name"
+      skipped "$name" "$reason"
+      continue
+    fi
     run_cmocka "$binary"
   done
+  skip_unbuilt 'test_*'
   if [ "$found" -eq 0 ]; then
     echo "no test binaries in $build/tests (make check builds them)" >"$out"
     result "unit tests" 0 1
@@ -170,8 +224,15 @@ run_host_tests() {
   for script in tests/*.sh; do
     [ -f "$script" ] || continue
     [ "$script" = tests/run.sh ] && continue
+    name=$(basename "$script")
+    if reason=$(skip_reason "$name"); then
+      skip_seen="$skip_seen $name"
+      skipped "$name" "$reason"
+      continue
+    fi
     run_host_test "$script"
   done
+  skip_unbuilt '*.sh'
 }
 
 check_ttl
@@ -184,6 +245,9 @@ if [ "$total_failed" -ne 0 ]; then
 elif [ "$total_passed" -eq 0 ]; then
   echo "no test ran"
   status=1
+fi
+if [ "$skipped_suites" -ne 0 ]; then
+  echo "$skipped_suites suites skipped (listed in $skip_list)"
 fi
 echo "$total_passed passed, $total_failed failed"
 exit "$status"

@@ -365,10 +365,12 @@ typedef struct {
   float controls[PORT_COUNT];
   union {
     LV2_Atom_Sequence sequence;
+    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
     uint8_t bytes[1024];
   } control;
   union {
     LV2_Atom_Sequence sequence;
+    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
     uint8_t bytes[NOTIFY_BUFFER_BYTES];
   } notify;
 } plugin_host;
@@ -860,6 +862,7 @@ static bool forge_alone(const plumb_note *note, uint32_t space,
                         received_note *got, uint32_t *sequence_bytes) {
   static union {
     LV2_Atom_Sequence sequence;
+    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
     uint8_t bytes[4096];
   } buffer;
   plumb_uris plugin_uris;

@@ -919,6 +919,7 @@ static bool forge_event(LV2_Atom_Forge *forge, const host_uris *uris,
 
 typedef union {
   LV2_Atom_Sequence sequence;
+  uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
   uint8_t bytes[ATOM_BUFFER_BYTES];
 } atom_buffer;
 

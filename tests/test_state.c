@@ -357,10 +357,12 @@ typedef struct {
   float controls[PORT_COUNT];
   union {
     LV2_Atom_Sequence sequence;
+    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
     uint8_t bytes[CONTROL_BYTES];
   } control;
   union {
     LV2_Atom_Sequence sequence;
+    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
     uint8_t bytes[NOTIFY_BYTES];
   } notify;
 } plugin_host;
