@@ -7,7 +7,7 @@
 #      plugin's description spans several files, so a file alone would
 #      show false errors);
 #   2. every BUILD_DIR/tests/test_* binary (cmocka);
-#   3. every tests/*.sh host test, given BUILD_DIR, whose last line is
+#   3. every tests/hosts/*.sh host test, given BUILD_DIR, whose last line is
 #      "N passed, N failed".
 #
 # One result line a suite; a failing suite's whole output is shown. The
@@ -221,7 +221,7 @@ run_host_test() {
 }
 
 run_host_tests() {
-  for script in tests/*.sh; do
+  for script in tests/hosts/*.sh; do
     [ -f "$script" ] || continue
     [ "$script" = tests/run.sh ] && continue
     name=$(basename "$script")

@@ -27,7 +27,7 @@
 #include <string.h>
 #include <time.h>
 
-#include "analyser.h" /* frames_analysed: the exact count of hops */
+#include "analyser/analyser.h" /* frames_analysed: the exact count of hops */
 
 #define SPEED_BLOCK_FRAMES 1024
 #define LATENCY_BLOCK_FRAMES 64

@@ -20,7 +20,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "analyser.h"
+#include "analyser/analyser.h"
 #include "harness.h"
 
 #define SAMPLE_RATE_HZ 48000.0

@@ -50,7 +50,7 @@
 #include <lv2/core/lv2.h>
 #include <lv2/urid/urid.h>
 
-#include "../plugin/lv2/ports.h"
+#include "ports.h"
 #include "plumb.h"
 #include "urid_table.h"
 

@@ -7,7 +7,7 @@
 #ifndef PLUMB_CLI_CONTROL_MESSAGES_H
 #define PLUMB_CLI_CONTROL_MESSAGES_H
 
-#include "uris.h"
+#include "host_uris.h"
 
 #include <lv2/atom/forge.h>
 #include <stdbool.h>

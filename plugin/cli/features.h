@@ -7,7 +7,7 @@
 #ifndef PLUMB_CLI_FEATURES_H
 #define PLUMB_CLI_FEATURES_H
 
-#include "uris.h"
+#include "host_uris.h"
 
 #include <lv2/core/lv2.h>
 #include <lv2/log/log.h>

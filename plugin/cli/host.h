@@ -7,7 +7,7 @@
 #define PLUMB_CLI_HOST_H
 
 #include "ports.h"
-#include "uris.h"
+#include "host_uris.h"
 
 #include <lilv/lilv.h>
 #include <pthread.h>

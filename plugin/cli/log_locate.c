@@ -1,6 +1,6 @@
 #include "log_locate.h"
 
-#include "plumb_csv.h"
+#include "log_stem.h"
 
 #include <stdio.h>
 #include <stdlib.h>

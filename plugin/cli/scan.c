@@ -19,7 +19,7 @@
 #include "progress.h"
 #include "summary.h"
 #include "tracks.h"
-#include "uris.h"
+#include "host_uris.h"
 
 #include <limits.h>
 #include <stdio.h>

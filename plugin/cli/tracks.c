@@ -1,7 +1,7 @@
 #include "tracks.h"
 
 #include "audio_file.h"
-#include "plumb_csv.h"
+#include "log_stem.h"
 #include "progress.h"
 
 #include <stdio.h>

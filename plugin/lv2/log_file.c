@@ -3,7 +3,7 @@
 */
 #include "log_file.h"
 
-#include "plumb_csv.h"
+#include "note_csv.h"
 
 #include <errno.h>
 #include <fcntl.h>

@@ -2,7 +2,7 @@
   plumb LV2: the log folder, file stems and mkdir -p (see log_path.h).
 */
 #include "log_path.h"
-#include "plumb_csv.h"
+#include "log_stem.h"
 
 #include <errno.h>
 #include <pwd.h>

@@ -6,7 +6,7 @@
 #include "controls.h"
 #include "log_file.h"
 #include "log_path.h"
-#include "plumb_csv.h"
+#include "note_csv.h"
 #include "run_json.h"
 
 #include <errno.h>

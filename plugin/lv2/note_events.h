@@ -1,9 +1,5 @@
 /*
-  plumb LV2: every completed note goes out on the notify port as one
-  urn:plumb:Note object (docs/ports.md lists its properties).
-
-  [RT]: pops the core's audio-thread note queue and forges into the
-  notify sequence, with no allocation, lock, log or system call.
+  plumb LV2: the completed notes, out on the notify port.
 */
 #ifndef PLUMB_LV2_NOTE_EVENTS_H
 #define PLUMB_LV2_NOTE_EVENTS_H
@@ -15,14 +11,6 @@
 
 #include <stdbool.h>
 #include <stdint.h>
-
-/* Forge one note as an object event at `frame` on the forge, which must
-   be writing into the notify sequence (its top frame). A field that does
-   not apply (NaN, or -1 for midi and partials) is left out. Returns
-   false, and leaves the sequence as it was, when the object does not
-   fit. */
-bool note_events_forge(const plumb_uris *uris, const plumb_note *note,
-                       LV2_Atom_Forge *forge, int64_t frame);
 
 /* Pop every completed note from plumb_pop_note_here() and forge each at
    `frame`; with notify_open false they are only popped. Returns how many
