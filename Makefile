@@ -117,12 +117,11 @@ $(SHARED_LIB): $(CORE_OBJ)
 	$(Q)ln -sf libplumb.so.$(VERSION) $(BUILD)/$(SONAME)
 	$(Q)ln -sf $(SONAME) $(BUILD)/libplumb.so
 
-$(BUILD)/plumb.pc: core/plumb.pc.in Makefile
-	$(say) GEN $@
-	$(Q)sed -e 's|@PREFIX@|$(PREFIX)|; s|@LIBDIR@|$(LIBDIR)|; s|@INCLUDEDIR@|$(INCLUDEDIR)|' \
-	    -e 's|@VERSION@|$(VERSION)|' core/plumb.pc.in > $@
+# plumb.pc is written at install time, for the PREFIX installed to.
+PC_SED = sed -e 's|@PREFIX@|$(PREFIX)|; s|@LIBDIR@|$(LIBDIR)|; s|@INCLUDEDIR@|$(INCLUDEDIR)|' \
+             -e 's|@VERSION@|$(VERSION)|; s|@MAJOR@|$(VERSION_MAJOR)|'
 
-lib: $(CORE_LIB) $(SHARED_LIB) $(BUILD)/plumb.pc
+lib: $(CORE_LIB) $(SHARED_LIB)
 
 # ----------------------------------------------------------------- plugin
 # -z nodelete: a host's dlclose() leaves the plugin (and so libfftw3f,
@@ -239,7 +238,8 @@ install: all
 	install -m 755 $(SHARED_LIB) $(DESTDIR)$(LIBDIR)/
 	ln -sf libplumb.so.$(VERSION) $(DESTDIR)$(LIBDIR)/$(SONAME)
 	ln -sf $(SONAME) $(DESTDIR)$(LIBDIR)/libplumb.so
-	install -m 644 $(BUILD)/plumb.pc $(DESTDIR)$(LIBDIR)/pkgconfig/
+	$(PC_SED) core/plumb.pc.in > $(DESTDIR)$(LIBDIR)/pkgconfig/plumb.pc
+	chmod 644 $(DESTDIR)$(LIBDIR)/pkgconfig/plumb.pc
 
 install-user:
 	@$(MAKE) --no-print-directory install PREFIX=$(HOME)/.local \

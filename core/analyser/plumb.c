@@ -243,20 +243,33 @@ void plumb_mark_transport(plumb *self, const plumb_transport *transport) {
 
 /* ---------------------------------------------------------------- query */
 
-bool plumb_pop_note(plumb *self, plumb_note *note) {
-  return self && note && plumb_note_queue_pop(&self->queue, note);
+/* The caller's struct may be an older, shorter one (plumb.h, "Growing"):
+   only the bytes it has room for are written. */
+static void copy_out(void *to, size_t to_size, const void *from, size_t from_size) {
+  memcpy(to, from, to_size < from_size ? to_size : from_size);
 }
 
-bool plumb_pop_note_here(plumb *self, plumb_note *note) {
-  return self && note && plumb_note_queue_pop(&self->here_queue, note);
+static bool pop_from(note_queue *queue, plumb_note *note, size_t note_size) {
+  plumb_note popped;
+  if (!plumb_note_queue_pop(queue, &popped)) return false;
+  copy_out(note, note_size, &popped, sizeof popped);
+  return true;
 }
 
-void plumb_get_live(const plumb *self, plumb_live *live) {
-  if (self && live) *live = self->live;
+bool plumb_pop_note_sized(plumb *self, plumb_note *note, size_t note_size) {
+  return self && note && pop_from(&self->queue, note, note_size);
 }
 
-void plumb_get_counts(const plumb *self, plumb_counts *counts) {
-  if (self && counts) *counts = self->counts;
+bool plumb_pop_note_here_sized(plumb *self, plumb_note *note, size_t note_size) {
+  return self && note && pop_from(&self->here_queue, note, note_size);
+}
+
+void plumb_get_live_sized(const plumb *self, plumb_live *live, size_t live_size) {
+  if (self && live) copy_out(live, live_size, &self->live, sizeof self->live);
+}
+
+void plumb_get_counts_sized(const plumb *self, plumb_counts *counts, size_t counts_size) {
+  if (self && counts) copy_out(counts, counts_size, &self->counts, sizeof self->counts);
 }
 
 uint32_t plumb_analysis_delay_frames(const plumb *self) {

@@ -299,14 +299,21 @@ PLUMB_API void plumb_mark_transport(plumb *analyser, const plumb_transport *tran
 /* ---------------------------------------------------------------- query */
 
 /* [RT, single consumer] Take the oldest completed note. Returns false when
-   there is none. May run on a thread other than plumb_process()'s. */
-PLUMB_API bool plumb_pop_note(plumb *analyser, plumb_note *note);
+   there is none. May run on a thread other than plumb_process()'s.
+   The struct calls below take the caller's sizeof through their macro, so
+   that a program built against an older, shorter plumb_note gets the
+   fields it knows (see "Growing" at the end of this header). */
+PLUMB_API bool plumb_pop_note_sized(plumb *analyser, plumb_note *note, size_t note_size);
+#define plumb_pop_note(analyser, note) plumb_pop_note_sized((analyser), (note), sizeof(plumb_note))
 
 /* [RT, the thread that calls plumb_process()] Take the oldest completed
    note from a second queue meant for the audio thread itself (a host's
    notify output), independent of plumb_pop_note()'s. Returns false when
    there is none. */
-PLUMB_API bool plumb_pop_note_here(plumb *analyser, plumb_note *note);
+PLUMB_API bool plumb_pop_note_here_sized(plumb *analyser, plumb_note *note,
+                                         size_t note_size);
+#define plumb_pop_note_here(analyser, note)                                                \
+  plumb_pop_note_here_sized((analyser), (note), sizeof(plumb_note))
 
 typedef struct {
   bool voiced;        /* a definite pitch is sounding */
@@ -318,7 +325,8 @@ typedef struct {
 } plumb_live;
 
 /* [RT] The latest frame reading (updated every hop). */
-PLUMB_API void plumb_get_live(const plumb *analyser, plumb_live *live);
+PLUMB_API void plumb_get_live_sized(const plumb *analyser, plumb_live *live, size_t live_size);
+#define plumb_get_live(analyser, live) plumb_get_live_sized((analyser), (live), sizeof(plumb_live))
 
 typedef struct {
   uint32_t notes;          /* notes completed since reset */
@@ -330,7 +338,10 @@ typedef struct {
 } plumb_counts;
 
 /* [RT] Counters and the last completed note. */
-PLUMB_API void plumb_get_counts(const plumb *analyser, plumb_counts *counts);
+PLUMB_API void plumb_get_counts_sized(const plumb *analyser, plumb_counts *counts,
+                                      size_t counts_size);
+#define plumb_get_counts(analyser, counts)                                                 \
+  plumb_get_counts_sized((analyser), (counts), sizeof(plumb_counts))
 
 /* [RT] Samples between a sound entering plumb_process() and the frame
    reading that covers it (the analysis delay; audio is never delayed). */
@@ -339,6 +350,24 @@ PLUMB_API uint32_t plumb_analysis_delay_frames(const plumb *analyser);
 /* [RT] The hop and frame lengths this instance analyses with. */
 PLUMB_API uint32_t plumb_hop_frames(const plumb *analyser);
 PLUMB_API uint32_t plumb_frame_frames(const plumb *analyser);
+
+/* ---------------------------------------------------------------- growing
+
+  How this interface grows without breaking a program built against an
+  older header of the same major version (libplumb.so.0):
+  - The structs the library fills (plumb_note, plumb_live, plumb_counts)
+    only ever grow at their end. The calls that fill them are macros that
+    pass the caller's sizeof to a _sized function, which writes no more
+    than that: an older program gets the fields it was built with.
+  - The structs the caller fills (plumb_settings, plumb_tuning_spec,
+    plumb_tuning, plumb_transport) keep their layout within a major
+    version; a new setting comes with a new call, and a changed layout
+    changes the major version and the soname.
+  - Enumerations only gain values at their end (before a _COUNT member,
+    which is not a stable value), and a program must accept a value it
+    does not know.
+  - Calls are added, never changed or removed, within a major version.
+*/
 
 #ifdef __cplusplus
 }

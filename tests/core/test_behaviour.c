@@ -199,6 +199,36 @@ static void test_low_rates_repeat_exactly(void **state) {
   }
 }
 
+/* A program built against an older, shorter plumb_note passes its own
+   sizeof (the macro does): the library writes no byte past it. The
+   older struct is modelled by a prefix of the note and a canary after. */
+static void test_a_shorter_note_struct_is_not_overrun(void **state) {
+  (void)state;
+  size_t n;
+  float *x = tone(48000.0, 440.0, 0.6, 0.2, &n);
+  plumb_settings settings;
+  plumb_settings_default(&settings, 48000.0);
+  plumb *analyser = plumb_new(&settings, NULL);
+  assert_non_null(analyser);
+  plumb_process(analyser, x, n);
+  plumb_finish(analyser);
+  const size_t older = offsetof(plumb_note, tristimulus);
+  unsigned char memory[sizeof(plumb_note) + 16];
+  memset(memory, 0xA5, sizeof memory);
+  assert_true(plumb_pop_note_sized(analyser, (plumb_note *)(void *)memory, older));
+  for (size_t i = older; i < sizeof memory; ++i) assert_int_equal(memory[i], 0xA5);
+  plumb_note prefix;
+  memcpy(&prefix, memory, older);
+  assert_true(fabs(harness_cents(prefix.f0_hz, 440.0)) < 0.1);
+  plumb_counts counts;
+  memset(&counts, 0xA5, sizeof counts);
+  plumb_get_counts_sized(analyser, &counts, offsetof(plumb_counts, has_last));
+  assert_int_equal(counts.notes, 1);
+  assert_int_equal(((unsigned char *)&counts)[offsetof(plumb_counts, has_last)], 0xA5);
+  plumb_free(analyser);
+  free(x);
+}
+
 static void test_reset_repeats_the_analysis(void **state) {
   (void)state;
   size_t n;
@@ -372,6 +402,7 @@ int main(void) {
       cmocka_unit_test(test_nan_and_inf_bursts_are_contained),
       cmocka_unit_test(test_every_sample_rate),
       cmocka_unit_test(test_low_rates_repeat_exactly),
+      cmocka_unit_test(test_a_shorter_note_struct_is_not_overrun),
       cmocka_unit_test(test_reset_repeats_the_analysis),
       cmocka_unit_test(test_flags_follow_the_tolerance),
       cmocka_unit_test(test_flags_follow_the_temperament),

@@ -382,6 +382,74 @@ check "system: make install DESTDIR=<tmp> PREFIX=/usr exits 0" \
   run_make install DESTDIR="$dest" PREFIX=/usr
 check_installed system "$dest/usr/lib/lv2" "$dest/usr/bin/plumb"
 
+# ------------------------------------------------------------ library
+
+# A program of someone else's, built against the installed library with
+# nothing but pkg-config: it analyses an A4 and prints the note's MIDI
+# number and cents (69, about 0: the MIDI Tuning Standard's A4 = 440 Hz).
+library_program() {
+  cat >"$WORK/uses_plumb.c" <<'PROGRAM'
+#include <plumb.h>
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+
+int main(void) {
+  plumb_settings settings;
+  plumb_settings_default(&settings, 48000.0);
+  plumb_status status;
+  plumb *analyser = plumb_new(&settings, &status);
+  if (!analyser) {
+    fprintf(stderr, "%s\n", plumb_strerror(status));
+    return 1;
+  }
+  float *x = calloc(48000, sizeof *x);
+  const double two_pi = 6.283185307179586;
+  for (int i = 4800; i < 43200; ++i) x[i] = (float)(0.25 * sin(two_pi * 440.0 * i / 48000.0));
+  plumb_process(analyser, x, 48000);
+  plumb_finish(analyser);
+  plumb_note note;
+  int found = 0;
+  while (plumb_pop_note(analyser, &note)) {
+    printf("%d %.2f\n", note.midi, note.cents);
+    ++found;
+  }
+  plumb_free(analyser);
+  free(x);
+  return found == 1 ? 0 : 1;
+}
+PROGRAM
+}
+
+prefix=$WORK/prefix
+check "library: make install PREFIX=<tmp> exits 0" run_make install PREFIX="$prefix"
+library_program
+pc_path=$prefix/lib/pkgconfig
+check "library: pkg-config finds plumb in the installed prefix" \
+  env PKG_CONFIG_PATH="$pc_path" pkg-config --exists plumb
+build_against() {
+  # shellcheck disable=SC2046 # the flags are words
+  cc -std=c11 -Wall -Wextra -Werror -o "$WORK/uses_plumb" "$WORK/uses_plumb.c" \
+    $(PKG_CONFIG_PATH="$pc_path" pkg-config --cflags --libs plumb) -lm
+}
+check "library: a program builds with pkg-config --cflags --libs plumb" build_against
+runs_against() {
+  LD_LIBRARY_PATH=$prefix/lib "$WORK/uses_plumb" >"$WORK/uses_plumb.out" || return 1
+  awk '$1 == 69 && $2 < 0.1 && $2 > -0.1 { ok = 1 } END { exit !ok }' "$WORK/uses_plumb.out"
+}
+check "library: it reads the A4 it analyses as MIDI 69, within 0.1 cent" runs_against
+only_public() {
+  nm -D --defined-only "$prefix/lib/libplumb.so" | awk '{ print $3 }' >"$WORK/exports"
+  [ -s "$WORK/exports" ] && ! grep -v '^plumb_' "$WORK/exports"
+}
+check "library: the shared library exports plumb_ symbols only" only_public
+static_only_public() {
+  nm -g --defined-only "$prefix/lib/libplumb.a" | awk 'NF == 3 { print $3 }' >"$WORK/globals"
+  [ -s "$WORK/globals" ] && ! grep -v '^plumb_' "$WORK/globals"
+}
+check "library: every global symbol of the static library is plumb_" static_only_public
+
 # ------------------------------------------------------------ user
 
 REAL_HOME=${HOME:-/root}
