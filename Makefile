@@ -30,7 +30,7 @@ ALL_CFLAGS += -fno-fast-math -ffp-contract=off
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 FFTW_LIBS  = $(shell pkg-config --libs fftw3f 2>/dev/null || echo -lfftw3f)
 
-CORE_SRC  := $(wildcard core/*.c)
+CORE_SRC  := $(wildcard core/*.c core/ensemble/*.c)
 CORE_OBJ  := $(CORE_SRC:%.c=$(BUILD)/obj/%.o)
 LV2_SRC   := $(wildcard plugin/lv2/*.c)
 LV2_OBJ   := $(LV2_SRC:%.c=$(BUILD)/obj/%.o)
