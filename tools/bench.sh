@@ -28,7 +28,7 @@ out=$build/bench
 take=$out/take.wav
 runs=${BENCH_RUNS:-3}
 failed=""
-tools="bench_take bench_core bench_fft bench_memory bench_accuracy bench_run bench_silence bench_longnote"
+tools="bench_take bench_core bench_fft bench_memory bench_accuracy bench_run bench_silence bench_longnote bench_ensemble"
 
 # value KEY FILE: KEY=... from the file's "values:" lines.
 value() { sed -n "s/^values:.* $1=\([^ ]*\).*/\1/p" "$2" 2>/dev/null | tail -n 1; }
@@ -61,7 +61,7 @@ step() {
 
 mkdir -p "$out" || exit 1
 # Outputs of an earlier run must not stand in for a step that fails now.
-for f in core fft scan aubio latency memory accuracy callgrind silence longnote; do
+for f in core fft scan aubio latency memory accuracy callgrind silence longnote ensemble; do
   rm -f "$out/$f.txt" "$out/$f.err"
 done
 rm -f "$out"/scan-*.txt "$out"/scan-*.err "$out"/aubio-*.txt "$out"/aubio-*.err
@@ -136,6 +136,10 @@ scan_notes=$(($(wc -l 2>/dev/null <"$out/logs/take.notes.csv" || echo 1) - 1))
 echo "plumb scan: best of $runs turns $scan_s s; $scan_notes notes in the log (the take holds $truth_notes)"
 echo "aubionotes: best of $runs turns ${aubio_s:-n/a} s"
 echo "ratio: aubionotes wall / plumb scan wall = $(ratio "$aubio_s" "$scan_s")"
+echo
+
+echo "== ensemble step: a synthetic 24-track, 10-minute session (bench_ensemble)"
+step ensemble "$build/tools/bench_ensemble" "$runs"
 echo
 
 echo "== worst plumb_process() call, 64-frame blocks"
@@ -228,6 +232,8 @@ tail_worst=$(ratio "$(silence core_tail_worst_us)" "$(silence core_ftz_tail_wors
 printf '%-34s %s\n' "core tail, no FTZ/DAZ / FTZ+DAZ" "mean ${tail_mean}x, worst ${tail_worst}x"
 [ -n "$instructions" ] && printf '%-34s %-34s\n' "instructions (callgrind)" \
   "${instructions} M per audio second"
+printf '%-34s %s\n' "ensemble pairing, 24 tracks x 10 min" \
+  "$(value best_s "$out/ensemble.txt") s for $(value notes "$out/ensemble.txt") notes, $(value pairs "$out/ensemble.txt") pairs"
 echo "load average at end: $(cut -d' ' -f1-3 /proc/loadavg)"
 
 if [ -n "$failed" ]; then

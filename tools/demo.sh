@@ -35,8 +35,8 @@ mkdir -p "$session" "$logs" || exit 1
 "$build/tools/demo_session" "$session" || exit 1
 echo
 
-echo "plumb scan -t $tolerance_cents -o $logs $session/*.wav"
-"$build/plumb" scan -t "$tolerance_cents" -o "$logs" "$session"/*.wav
+echo "plumb scan -t $tolerance_cents --ensemble --tempo 96 -o $logs $session/*.wav"
+"$build/plumb" scan -t "$tolerance_cents" --ensemble --tempo 96 -o "$logs" "$session"/*.wav
 scan_status=$?
 echo
 if [ "$scan_status" -ge 2 ]; then
@@ -128,4 +128,18 @@ echo
 if [ "$3" -eq 1 ]; then false_flags="1 false flag"; else false_flags="$3 false flags"; fi
 echo "Caught $2 of $1 deliberate errors; $false_flags among $4 logged notes ($5 flagged)."
 echo "The logs are in $logs/<track>.notes.csv; the takes and their truth files in $session/."
+echo
+# The ensemble faults (docs/demo.md): the reed sits 6 cents above the
+# rest, and its A5 doubles the fiddle's, beating at 880 (2^(6/1200) - 1) Hz.
+echo "Ensemble faults and what $logs/ensemble.*.csv say:"
+awk -F, 'NR > 1 && $4 != "" { o[$1] = $4; n++ }
+  END { rest = 0; for (t in o) if (t != "reed") rest += o[t]
+        d = o["reed"] - rest / (n - 1)
+        printf "  reed sits %+.1f cents above the other parts (meant +6): %s\n", d,
+               (d > 4 && d < 8) ? "caught" : "MISSED" }' "$logs/ensemble.tracks.csv"
+awk -F, 'NR > 1 && $9 == "P1" && $14 != "" && (($3 == "reed" && $6 == "fiddle") || ($3 == "fiddle" && $6 == "reed")) {
+    want = 880 * (2 ^ (6 / 1200) - 1); e = $14 - want; if (e < 0) e = -e
+    printf "  unison %s/%s %s at %.2f s beats %.2f Hz (meant %.2f): %s\n", $3, $6, $5, $1, $14, want,
+           e < 0.3 ? "caught" : "MISSED"; found = 1 }
+  END { if (!found) print "  the reed/fiddle unison: MISSED (no such pair)" }' "$logs/ensemble.pairs.csv"
 [ "$scan_status" -lt 2 ] && [ "$missing" -eq 0 ]

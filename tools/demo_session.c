@@ -49,12 +49,16 @@ static const sig_note fiddle_notes[] = {
     NOTE(11, 1, 73, 0.0, 0, 0),     NOTE(12, 4, 74, 0.0, 5.5, 12),
 };
 
-/* Reed: the harmony, a third or sixth below, in half notes. */
+/* Reed: the harmony, a third or sixth below, in half notes. The ensemble
+   fault: the whole part sits 6 cents sharp (REED_SHARP), inside the
+   per-note tolerance, and its second note doubles the fiddle's A5, a
+   unison 6 cents wide that beats at 880 (2^(6/1200) - 1) = 3.06 Hz. */
+#define REED_SHARP 6.0
 static const sig_note reed_notes[] = {
-    NOTE(0, 2, 66, 0.0, 0, 0),  NOTE(2, 2, 69, 0.0, 0, 0),
-    NOTE(4, 2, 71, 0.0, 0, 0),  NOTE(6, 2, 69, 0.0, 0, 0),
-    NOTE(8, 2, 67, -25.0, 0, 0), NOTE(10, 2, 66, -6.0, 0, 0),
-    NOTE(12, 4, 69, 0.0, 0, 0),
+    NOTE(0, 2, 66, REED_SHARP, 0, 0),          NOTE(2, 2, 81, REED_SHARP, 0, 0),
+    NOTE(4, 2, 71, REED_SHARP, 0, 0),          NOTE(6, 2, 69, REED_SHARP, 0, 0),
+    NOTE(8, 2, 67, -25.0 + REED_SHARP, 0, 0), NOTE(10, 2, 66, -6.0 + REED_SHARP, 0, 0),
+    NOTE(12, 4, 69, REED_SHARP, 0, 0),
 };
 
 /* Voice: three legato phrases with glides, vibrato of +-35 cents at

@@ -1,6 +1,7 @@
 #include "control_messages.h"
 
 #include <limits.h>
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -86,6 +87,40 @@ static bool set_source(LV2_Atom_Forge *forge, const host_uris *uris,
   return ok;
 }
 
+/* A time:Position at frame 0 (LV2 time): the timeline frame of the first
+   sample, rolling, and with a tempo the bar and beat there, counted
+   from bar 0, beat 0 at timeline 0 (the LV2 convention; the plugin logs
+   them from 1). */
+static bool set_position(LV2_Atom_Forge *forge, const host_uris *uris,
+                         const control_timeline *timeline) {
+  LV2_Atom_Forge_Frame frame;
+  if (!lv2_atom_forge_frame_time(forge, 0) ||
+      !lv2_atom_forge_object(forge, &frame, 0, uris->time_Position)) {
+    return false;
+  }
+  int64_t start_frame = (int64_t)llround(timeline->start_s * timeline->sample_rate_hz);
+  bool ok = lv2_atom_forge_key(forge, uris->time_frame) &&
+            lv2_atom_forge_long(forge, start_frame) &&
+            lv2_atom_forge_key(forge, uris->time_speed) && lv2_atom_forge_float(forge, 1.0f);
+  if (ok && timeline->beats_per_minute > 0.0) {
+    double beats = (double)start_frame / timeline->sample_rate_hz *
+                   timeline->beats_per_minute / 60.0;
+    double bar = floor(beats / timeline->beats_per_bar);
+    ok = lv2_atom_forge_key(forge, uris->time_bar) &&
+         lv2_atom_forge_long(forge, (int64_t)bar) &&
+         lv2_atom_forge_key(forge, uris->time_barBeat) &&
+         lv2_atom_forge_float(forge, (float)(beats - bar * timeline->beats_per_bar)) &&
+         lv2_atom_forge_key(forge, uris->time_beatsPerBar) &&
+         lv2_atom_forge_float(forge, (float)timeline->beats_per_bar) &&
+         lv2_atom_forge_key(forge, uris->time_beatUnit) &&
+         lv2_atom_forge_int(forge, timeline->beat_unit) &&
+         lv2_atom_forge_key(forge, uris->time_beatsPerMinute) &&
+         lv2_atom_forge_float(forge, (float)timeline->beats_per_minute);
+  }
+  lv2_atom_forge_pop(forge, &frame);
+  return ok;
+}
+
 bool control_messages_write_parameters(LV2_Atom_Forge *caller_forge,
                                        const host_uris *uris, void *buffer,
                                        uint32_t capacity_bytes,
@@ -109,6 +144,9 @@ bool control_messages_write_parameters(LV2_Atom_Forge *caller_forge,
                            parameters->custom_offsets_cents);
   }
   ok = ok && set_source(forge, uris, parameters);
+  if (parameters->timeline) {
+    ok = ok && set_position(forge, uris, parameters->timeline);
+  }
   lv2_atom_forge_pop(forge, &sequence);
   return ok;
 }

@@ -2,7 +2,7 @@
   What the host sends on the plugin's control atom port: on the first run
   one patch:Set for each parameter the plugin cannot get from a control
   port (log folder, take label, custom offsets, source file and channel),
-  all at frame 0; on every later run an empty sequence.
+  all at frame 0, then a time:Position for an offline timeline; on every later run an empty sequence.
 */
 #ifndef PLUMB_CLI_CONTROL_MESSAGES_H
 #define PLUMB_CLI_CONTROL_MESSAGES_H
@@ -13,6 +13,16 @@
 #include <stdbool.h>
 #include <stdint.h>
 
+/* An offline timeline (plumb scan --start-s, --tempo, --meter): where
+   the take's first sample sits on the timeline, and its musical time. */
+typedef struct {
+  double start_s;          /* timeline position of the first sample */
+  double beats_per_minute; /* 0: no musical time (only the position) */
+  int beats_per_bar;
+  int beat_unit;
+  double sample_rate_hz;
+} control_timeline;
+
 typedef struct {
   const char *log_folder; /* absolute path */
   const char *take_label;
@@ -22,6 +32,8 @@ typedef struct {
      sent. */
   const char *source_file;
   int source_channel; /* 1 = the first; 0: not sent */
+  /* NULL: no time:Position is sent (the plugin then counts from 0). */
+  const control_timeline *timeline;
 } control_parameters;
 
 /* Writes the first run's sequence into `buffer` (8-byte aligned). False

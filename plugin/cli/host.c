@@ -134,11 +134,15 @@ static void free_instance(track_run *run) {
 }
 
 /* The first run's parameters go into every atom input (plumb has one). */
-static bool write_parameters(track_run *run) {
+static bool write_parameters(track_run *run, double sample_rate_hz) {
   const host_context *context = run->context;
+  control_timeline timeline = context->timeline ? *context->timeline
+                                                : (control_timeline){0};
+  timeline.sample_rate_hz = sample_rate_hz;
   control_parameters parameters = {context->log_folder, run->track->label,
                                    context->custom_offsets_cents,
-                                   run->track->name, run->track->channel + 1};
+                                   run->track->name, run->track->channel + 1,
+                                   context->timeline ? &timeline : NULL};
   LV2_Atom_Forge forge;
   lv2_atom_forge_init(&forge, urid_table_map_feature(context->urids));
   for (uint32_t i = 0; i < context->layout->count; ++i) {
@@ -238,7 +242,7 @@ static bool analyse(track_run *run, SNDFILE *file, const SF_INFO *info,
   if (!instantiate(run, (double)info->samplerate)) {
     return false;
   }
-  if (!write_parameters(run)) {
+  if (!write_parameters(run, (double)info->samplerate)) {
     return false;
   }
   lilv_instance_activate(run->instance);

@@ -6,6 +6,7 @@
 #ifndef PLUMB_CLI_HOST_H
 #define PLUMB_CLI_HOST_H
 
+#include "control_messages.h"
 #include "ports.h"
 #include "host_uris.h"
 
@@ -25,6 +26,9 @@ typedef struct {
   const double
       *custom_offsets_cents; /* NULL unless the temperament is custom */
   uint32_t block_frames;
+  /* An offline timeline (control_messages.h); NULL: none. Its sample
+     rate is each track's own. */
+  const control_timeline *timeline;
   pthread_mutex_t *lilv_mutex; /* held to instantiate and to free */
 } host_context;
 

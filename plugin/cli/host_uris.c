@@ -5,6 +5,7 @@
 #include <lv2/log/log.h>
 #include <lv2/parameters/parameters.h>
 #include <lv2/patch/patch.h>
+#include <lv2/time/time.h>
 
 static void map_one(urid_table *table, const char *uri, LV2_URID *urid,
                     bool *ok) {
@@ -17,6 +18,8 @@ bool host_uris_map(host_uris *uris, urid_table *table) {
   map_one(table, LV2_ATOM__Chunk, &uris->atom_Chunk, &ok);
   map_one(table, LV2_ATOM__Float, &uris->atom_Float, &ok);
   map_one(table, LV2_ATOM__Int, &uris->atom_Int, &ok);
+  map_one(table, LV2_ATOM__Long, &uris->atom_Long, &ok);
+  map_one(table, LV2_ATOM__Object, &uris->atom_Object, &ok);
   map_one(table, LV2_ATOM__Sequence, &uris->atom_Sequence, &ok);
   map_one(table, LV2_PATCH__Set, &uris->patch_Set, &ok);
   map_one(table, LV2_PATCH__property, &uris->patch_property, &ok);
@@ -35,5 +38,13 @@ bool host_uris_map(host_uris *uris, urid_table *table) {
           &uris->bufsz_nominalBlockLength, &ok);
   map_one(table, LV2_LOG__Note, &uris->log_Note, &ok);
   map_one(table, LV2_LOG__Trace, &uris->log_Trace, &ok);
+  map_one(table, LV2_TIME__Position, &uris->time_Position, &ok);
+  map_one(table, LV2_TIME__frame, &uris->time_frame, &ok);
+  map_one(table, LV2_TIME__speed, &uris->time_speed, &ok);
+  map_one(table, LV2_TIME__bar, &uris->time_bar, &ok);
+  map_one(table, LV2_TIME__barBeat, &uris->time_barBeat, &ok);
+  map_one(table, LV2_TIME__beatsPerBar, &uris->time_beatsPerBar, &ok);
+  map_one(table, LV2_TIME__beatUnit, &uris->time_beatUnit, &ok);
+  map_one(table, LV2_TIME__beatsPerMinute, &uris->time_beatsPerMinute, &ok);
   return ok;
 }

@@ -15,6 +15,8 @@ typedef struct {
   LV2_URID atom_Chunk;
   LV2_URID atom_Float;
   LV2_URID atom_Int;
+  LV2_URID atom_Long;
+  LV2_URID atom_Object;
   LV2_URID atom_Sequence;
   LV2_URID patch_Set;
   LV2_URID patch_property;
@@ -30,6 +32,14 @@ typedef struct {
   LV2_URID bufsz_nominalBlockLength;
   LV2_URID log_Note;
   LV2_URID log_Trace;
+  LV2_URID time_Position;
+  LV2_URID time_frame;
+  LV2_URID time_speed;
+  LV2_URID time_bar;
+  LV2_URID time_barBeat;
+  LV2_URID time_beatsPerBar;
+  LV2_URID time_beatUnit;
+  LV2_URID time_beatsPerMinute;
 } host_uris;
 
 /* False when the table could not map them (out of memory). */

@@ -2,9 +2,11 @@
   plumb: the command-line host of the plumb LV2 plugin.
 
   `plumb scan` runs recorded takes through the very plugin binary a
-  workstation loads, `plumb report` reads the logs back. See
+  workstation loads, `plumb report` reads the logs back, `plumb ensemble`
+  compares the tracks of one take with one another. See
   docs/command.md.
 */
+#include "ensemble_main.h"
 #include "exit_status.h"
 #include "options.h"
 #include "plumb.h"
@@ -24,6 +26,9 @@ int main(int argc, char **argv) {
   const char *command = argv[1];
   if (strcmp(command, "scan") == 0) {
     return scan_main(argc - 1, argv + 1);
+  }
+  if (strcmp(command, "ensemble") == 0) {
+    return ensemble_main(argc - 1, argv + 1);
   }
   if (strcmp(command, "report") == 0) {
     return report_main(argc - 1, argv + 1);

@@ -23,7 +23,12 @@ enum {
   OPTION_STRICT,
   OPTION_LOWEST,
   OPTION_HIGHEST,
-  OPTION_MIN_NOTE
+  OPTION_MIN_NOTE,
+  OPTION_ENSEMBLE,
+  OPTION_INTERVALS,
+  OPTION_TEMPO,
+  OPTION_METER,
+  OPTION_START
 };
 
 static const struct option long_options[] = {
@@ -39,6 +44,11 @@ static const struct option long_options[] = {
     {"lowest", required_argument, NULL, OPTION_LOWEST},
     {"highest", required_argument, NULL, OPTION_HIGHEST},
     {"min-note", required_argument, NULL, OPTION_MIN_NOTE},
+    {"ensemble", no_argument, NULL, OPTION_ENSEMBLE},
+    {"intervals", required_argument, NULL, OPTION_INTERVALS},
+    {"tempo", required_argument, NULL, OPTION_TEMPO},
+    {"meter", required_argument, NULL, OPTION_METER},
+    {"start-s", required_argument, NULL, OPTION_START},
     {"help", no_argument, NULL, 'h'},
     {NULL, 0, NULL, 0}};
 
@@ -51,6 +61,9 @@ void options_print_usage(FILE *stream) {
       "usage: plumb scan [options] FILE...  analyse takes: one log per track",
       "                                     in --out, a summary on stdout",
       "       plumb report DIR              the summary of the logs in DIR",
+      "       plumb ensemble [options] DIR | LOG.notes.csv...",
+      "                                     every track of one take against",
+      "                                     the others: ensemble.* files",
       "       plumb --help | --version",
       "",
       "scan options:",
@@ -70,6 +83,18 @@ void options_print_usage(FILE *stream) {
       "                         (default: number of cores)",
       "      --block N          host block size, 1..8192 (default 1024)",
       "      --strict           exit 1 when any note is flagged",
+      "      --ensemble         then compare this run's tracks (plumb ensemble)",
+      "      --intervals NAME   with --ensemble: equal (default) or just",
+      "      --start-s S        the takes start at S s on the timeline",
+      "      --tempo BPM        beats a minute, 10..400: logs get bar and beat",
+      "      --meter N/D        with --tempo: N beats of 1/D a bar (default 4/4)",
+      "",
+      "ensemble options:",
+      "  -o, --out DIR          where the ensemble files go (default: the logs')",
+      "      --intervals NAME   equal (default) | just: the pairs' target",
+      "  -t, --tolerance CENTS  a pair beyond +-CENTS is wide or narrow (default 10)",
+      "      --min-overlap MS   shortest time two notes sound together (default 80)",
+      "      --take STEM        of several takes, the one holding log STEM",
       "",
       "NOTE is a name like E1 or C#4, or a MIDI number. A file with several",
       "channels is analysed one channel at a time, as the tracks <stem>-ch1,",
@@ -207,6 +232,36 @@ static bool read_tonic(const char *text, scan_options *options) {
   return true;
 }
 
+static bool read_intervals(const char *text, scan_options *options) {
+  if (strcmp(text, "equal") != 0 && strcmp(text, "just") != 0) {
+    console_error("--intervals: '%s' is neither 'equal' nor 'just'", text);
+    return false;
+  }
+  options->just_intervals = strcmp(text, "just") == 0;
+  return true;
+}
+
+/* N/D: N beats a bar, 1..64, of a note value D among 1, 2, 4 ... 64. */
+static bool read_meter(const char *text, scan_options *options) {
+  char beats[16], unit[16];
+  const char *slash = strchr(text, '/');
+  long n = 0, d = 0;
+  bool ok = slash && slash - text < (long)sizeof beats && strlen(slash + 1) < sizeof unit;
+  if (ok) {
+    snprintf(beats, sizeof beats, "%.*s", (int)(slash - text), text);
+    snprintf(unit, sizeof unit, "%s", slash + 1);
+    ok = parse_whole(beats, &n) && parse_whole(unit, &d) && n >= 1 && n <= 64 && d >= 1 &&
+         d <= 64 && (d & (d - 1)) == 0;
+  }
+  if (!ok) {
+    console_error("--meter: '%s' is not N/D (N 1..64 beats of 1/D, D 1, 2, 4 ... 64)", text);
+    return false;
+  }
+  options->meter_beats = (int)n;
+  options->meter_unit = (int)d;
+  return true;
+}
+
 /* One option with its value; false after reporting a bad value. */
 static bool apply_option(int code, const char *value, scan_options *options) {
   switch (code) {
@@ -247,6 +302,19 @@ static bool apply_option(int code, const char *value, scan_options *options) {
   case OPTION_STRICT:
     options->strict = true;
     return true;
+  case OPTION_ENSEMBLE:
+    options->ensemble = true;
+    return true;
+  case OPTION_INTERVALS:
+    return read_intervals(value, options);
+  case OPTION_TEMPO:
+    options->has_timeline = true;
+    return read_decimal_in(code, value, 10.0, 400.0, &options->tempo_bpm);
+  case OPTION_METER:
+    return read_meter(value, options);
+  case OPTION_START:
+    options->has_timeline = true;
+    return read_decimal_in(code, value, 0.0, 86400.0, &options->start_s);
   default:
     return false;
   }
@@ -286,6 +354,8 @@ static void set_defaults(scan_options *options) {
   memset(options, 0, sizeof *options);
   options->out_dir = OPTIONS_DEFAULT_OUT_DIR;
   options->block_frames = OPTIONS_DEFAULT_BLOCK_FRAMES;
+  options->meter_beats = 4;
+  options->meter_unit = 4;
 }
 
 /* The range is checked once all options are in, in either order. */

@@ -38,6 +38,16 @@ typedef struct {
   int block_frames;
   bool strict;
 
+  /* --ensemble: the ensemble step over this run's logs afterwards. */
+  bool ensemble;
+  bool just_intervals; /* --intervals just */
+  /* The offline timeline: --start-s, --tempo, --meter. */
+  bool has_timeline;
+  double start_s;
+  double tempo_bpm; /* 0: none */
+  int meter_beats;  /* beats a bar (default 4) */
+  int meter_unit;   /* the beat's note value (default 4) */
+
   char **files;
   int file_count;
 } scan_options;

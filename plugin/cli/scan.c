@@ -8,6 +8,7 @@
 #include "log_locate.h"
 
 #include "bundle.h"
+#include "ensemble_main.h"
 #include "exit_status.h"
 #include "host.h"
 #include "jobs.h"
@@ -22,6 +23,7 @@
 #include "host_uris.h"
 
 #include <limits.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -41,6 +43,7 @@ typedef struct {
   bool *track_ok;
   host_outcome *outcomes;
   struct timespec started; /* logs written before this are an earlier run's */
+  control_timeline timeline;
 } scan_run;
 
 /* False after reporting a port the plugin should have and has not. */
@@ -142,6 +145,8 @@ static bool run_track(size_t index, void *context) {
 }
 
 static void run_tracks(scan_run *scan, const scan_options *options) {
+  scan->timeline = (control_timeline){options->start_s, options->tempo_bpm,
+                                      options->meter_beats, options->meter_unit, 0.0};
   bool custom = options->has_temperament &&
                 options->temperament == PLUMB_TEMPERAMENT_CUSTOM;
   scan->host = (host_context){.plugin = scan->loaded.plugin,
@@ -153,6 +158,7 @@ static void run_tracks(scan_run *scan, const scan_options *options) {
                               .custom_offsets_cents =
                                   custom ? options->custom_offsets_cents : NULL,
                               .block_frames = (uint32_t)options->block_frames,
+                              .timeline = options->has_timeline ? &scan->timeline : NULL,
                               .lilv_mutex = &scan->lilv_mutex};
   unsigned threads =
       options->jobs > 0 ? (unsigned)options->jobs : jobs_default_threads();
@@ -179,6 +185,37 @@ static bool this_runs_log(const scan_run *scan, size_t i, char *path, size_t siz
     return false;
   }
   return true;
+}
+
+/* --ensemble: the ensemble step over the logs this run wrote. */
+static int run_ensemble(const scan_run *scan, const scan_options *options,
+                        const summary_take *takes, size_t count) {
+  char **paths = calloc(count ? count : 1, sizeof *paths);
+  if (!paths) {
+    console_error("out of memory");
+    return EXIT_STATUS_IO;
+  }
+  size_t logs = 0;
+  for (size_t i = 0; i < count; ++i) {
+    if (takes[i].log_path) {
+      paths[logs++] = (char *)(uintptr_t)takes[i].log_path;
+    }
+  }
+  int status = EXIT_STATUS_DONE;
+  putchar('\n');
+  fflush(stdout);
+  if (logs == 0) {
+    console_error("ensemble: no track of this run left a log: nothing to compare");
+  } else {
+    ensemble_options ensemble;
+    ensemble_options_default(&ensemble);
+    ensemble.out_dir = scan->log_folder;
+    ensemble.settings.target =
+        options->just_intervals ? PLUMB_INTERVALS_JUST : PLUMB_INTERVALS_EQUAL;
+    status = ensemble_run_paths(paths, logs, &ensemble, true);
+  }
+  free(paths);
+  return status;
 }
 
 /* The summary of the tracks that ran; returns the final exit status. */
@@ -208,6 +245,9 @@ static int summarise(const scan_run *scan, const scan_options *options,
     ++count;
   }
   summary_totals totals = summary_print(stdout, takes, count, scan->log_folder);
+  if (options->ensemble) {
+    status = exit_status_worst(status, run_ensemble(scan, options, takes, count));
+  }
   free(takes);
   free(paths);
   if (totals.unreadable_logs) {
