@@ -3,10 +3,10 @@
   that HOPS hops of the core need, and nothing else.
 
   Per hop the core transforms one real frame of plumb_frame_frames()
-  samples forward (core/spectrum.c: the Hann-windowed spectrum) and, at
-  half the sample rate (core/halfband.c), two frames of half that length
-  forward and one back (core/yin.c: the segment and the window part
-  forward, their cross-spectrum back). The plans are made the way core/fft.c makes them
+  samples forward (core/frame/spectrum.c: the Hann-windowed spectrum) and, at
+  half the sample rate (core/frame/halfband.c), two frames of half that length
+  forward and one back (core/frame/yin.c: the segment and the window part
+  forward, their cross-spectrum back). The plans are made the way core/frame/fft.c makes them
   (single precision, r2c and c2r, FFTW_ESTIMATE, out of place) and run
   with the new-array interface on separate fftwf_malloc'd arrays, as in
   the core. The inputs are Gaussian noise, so no denormals slow them.

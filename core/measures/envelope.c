@@ -23,8 +23,8 @@
 #include <stdlib.h>
 
 /* Common practice, no source; set on the project's synthetic envelopes
-   and FluidR3's organ, guitar and piano (tests/test_envelope.c,
-   tests/test_sampled_timbre.c). */
+   and FluidR3's organ, guitar and piano (tests/core/test_envelope.c,
+   tests/sampled/test_sampled_timbre.c). */
 #define SMOOTHING_MIN_S 0.001 /* for events with no pitch */
 #define SMOOTHING_MAX_STEPS 128
 #define PLATEAU_SLOPE_MAX_DB_PER_S 5.0 /* a held organ's level wanders +-1.5 dB */

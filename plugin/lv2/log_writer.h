@@ -2,7 +2,7 @@
   plumb LV2: the session log writer.
 
   It is the single consumer of the core's note queue (plumb_pop_note),
-  formats each note with core/note_csv.c and appends it to
+  formats each note with plugin/formats/note_csv.c and appends it to
   <folder>/<STEM>.notes.csv, flushing row by row, and keeps
   <STEM>.run.json beside it (see docs/log-format.md).
 

@@ -1,6 +1,6 @@
 /*
   The library refuses settings and offsets outside their documented
-  ranges (core/plumb.h) with a status, so that no caller (the plugin, the
+  ranges (core/include/plumb.h) with a status, so that no caller (the plugin, the
   command, a program of its own) can reach a float-to-int conversion
   that overflows (C11 6.3.1.4: undefined behaviour when the value does
   not fit) or a tuning the plugin would silently drop.

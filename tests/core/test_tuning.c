@@ -1,5 +1,5 @@
 /*
-  Tests for the tuning module (core/tuning.c, core/names.c).
+  Tests for the tuning module (core/tuning/tuning.c, core/tuning/names.c).
 
   Every expected number is a published value or is derived (recomputed
   here) from a published formula or construction; the source stands in a

@@ -2,7 +2,7 @@
   Sounds with no definite pitch are never flagged: strikes of an ideal
   circular membrane (mode ratios from the Bessel zeros j_mk / j_01) and of
   a free-free bar (roots of cos x cosh x = 1), and noise bursts. The mode
-  ratios are those of tests/signal.c, which test_signal.c checks against
+  ratios are those of tests/lib/signal.c, which test_signal.c checks against
   scipy's jn_zeros and a root finder.
 */
 #include "harness.h"
@@ -78,7 +78,7 @@ static void test_bar_strikes_are_never_flagged(void **state) {
 }
 
 /* A free bar's second mode, 2.7565 times its lowest (the roots of cos x
-   cosh x = 1, as tests/test_signal.c checks), sits 1200 log2(2.7565 / 3)
+   cosh x = 1, as tests/lib/test_signal.c checks), sits 1200 log2(2.7565 / 3)
    = -146.5 cents from the third harmonic of the lowest mode, and the log's
    partial_cents puts it there (derived); the third mode, 5.4039,
    sits +134.49 cents from the fifth. */

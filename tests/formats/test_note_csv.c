@@ -1,5 +1,5 @@
 /*
-  Tests for the session log's row formatting (core/note_csv.c).
+  Tests for the session log's row formatting (plugin/formats/note_csv.c).
 
   The outside reference for every number is the C library's printf in the
   "C" locale (glibc, as Debian ships it): the log format fixes each column

@@ -3,7 +3,7 @@
 # on stderr and the documented exit status, usage errors stop the command
 # before any take runs, and a bad take does not stop the good ones.
 #
-#   sh tests/cli_errors.sh BUILD_DIR
+#   sh tests/hosts/cli_errors.sh BUILD_DIR
 #
 # Needs BUILD_DIR/plumb beside BUILD_DIR/plumb.lv2, and /usr/bin/python3
 # with numpy and scipy for the test tone.

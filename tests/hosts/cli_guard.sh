@@ -10,7 +10,7 @@
 #   - run.json names the take's source file (absolute) and channel
 #     (1-based), so two takes called x from two folders can be told apart.
 #
-#   sh tests/cli_guard.sh BUILD_DIR
+#   sh tests/hosts/cli_guard.sh BUILD_DIR
 
 BUILD_DIR=${1:?usage: sh tests/hosts/cli_guard.sh BUILD_DIR}
 ROOT=$(cd "$(dirname "$0")/../.." && pwd) || exit 2

@@ -1,7 +1,7 @@
 #!/bin/sh
 # The session log survives what a workstation does to it.
 #
-#   sh tests/durable_logs.sh BUILD_DIR
+#   sh tests/hosts/durable_logs.sh BUILD_DIR
 #
 # Checks, each against docs/log-format.md (read at test time where it
 # lists something) or against a complete run of the same take:
@@ -297,7 +297,7 @@ run_lv2file() {
 # ------------------------------------------------------------ 5. a complete scan
 
 # The reference for check 1, and check 5. Logs do not depend on the block
-# size (core/plumb.h; tests/hosts.sh checks it), so --block 64 is a fair
+# size (core/include/plumb.h; tests/hosts/hosts.sh checks it), so --block 64 is a fair
 # reference for the --block 1 run killed below.
 FULL=$WORK/full
 "$PLUMB" scan -j 1 --block 64 -o "$FULL" "$WORK/long.wav" \

@@ -2,7 +2,7 @@
 # The plugin in real hosts: lv2file (Debian package lv2file) and the plumb
 # command, on a take made here with a known truth.
 #
-#   sh tests/hosts.sh BUILD_DIR
+#   sh tests/hosts/hosts.sh BUILD_DIR
 #
 # Checks, each against a source outside the plugin:
 #   - lv2file at its default block (512) and at -b 64 and -b 4096: exit 0,
@@ -14,7 +14,7 @@
 #     lv2file still exits 0 with bit-exact audio, and the plugin says so in
 #     one line (docs/log-format.md, "When the log cannot be written");
 #   - plumb scan at --block 1, 64 and 4096: exit 0, the same rows, logs
-#     byte-identical across block sizes (core/plumb.h: results do not
+#     byte-identical across block sizes (core/include/plumb.h: results do not
 #     depend on the block size), and exactly the detuned note in the
 #     flagged table (docs/command.md, "Output").
 # The truth: the MIDI Tuning Standard's f = 440 * 2^((m - 69) / 12) and

@@ -1,7 +1,7 @@
 #!/bin/sh
 # The installed plugin as LV2 hosts discover it.
 #
-#   sh tests/install.sh BUILD_DIR
+#   sh tests/hosts/install.sh BUILD_DIR
 #
 # Two install flavours, each into a temporary folder:
 #   - system: make install DESTDIR=<tmp> PREFIX=/usr  (bundle in

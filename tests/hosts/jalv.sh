@@ -4,7 +4,7 @@
 # real-time host, answers `controls` and `monitors`, and writes its log;
 # then, with audio from JACK on its input and a transport driven by
 # jack_transport, the log's timeline_s follows the transport.
-# Run as: sh tests/jalv.sh BUILD_DIR. Prints "ok - ..." / "not ok - ...",
+# Run as: sh tests/hosts/jalv.sh BUILD_DIR. Prints "ok - ..." / "not ok - ...",
 # then "N passed, N failed".
 build=$(cd "$1" && pwd) || exit 2
 passed=0

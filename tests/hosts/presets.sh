@@ -4,7 +4,7 @@
 # tone, and the take's run.json shows every value the preset sets; an
 # unknown preset is a usage error (exit 2) that lists the presets.
 #
-#   sh tests/presets.sh BUILD_DIR
+#   sh tests/hosts/presets.sh BUILD_DIR
 #
 # Needs BUILD_DIR/plumb beside BUILD_DIR/plumb.lv2 (make all), serdi to
 # read the preset files, and /usr/bin/python3 with numpy and scipy for the

@@ -7,7 +7,7 @@
 # the loss of another take's log (a good take runs in the same batch or
 # into the same folder, and its log must keep its note).
 #
-#   sh tests/torture.sh BUILD_DIR
+#   sh tests/hosts/torture.sh BUILD_DIR
 #
 # The cases:
 #   1. broken files: empty, header only, truncated mid-sample, a header
@@ -18,7 +18,7 @@
 #      "-" and as /dev/stdin (a pipe from sox): no hang, and a stream is
 #      refused with a true reason or read once;
 #   3. sample rates 8000, 11025, 12000, 16000, 22050, 384000 Hz (inside
-#      the 8 .. 384 kHz that docs/methods.md and core/plumb.h accept) and
+#      the 8 .. 384 kHz that docs/methods.md and core/include/plumb.h accept) and
 #      0, 1, 2, 7999, 384001, 1000000 Hz (outside: refused);
 #   4. 64 channels: 64 tracks, 64 unique labels, each its own note;
 #   5. two hours of silence: 0 notes, exit 0, peak resident set measured;

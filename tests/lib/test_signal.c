@@ -1,5 +1,5 @@
 /*
-  Tests of the shared signal generator (tests/signal.c) against values
+  Tests of the shared signal generator (tests/lib/signal.c) against values
   from outside the project. Each check names its source.
 */
 #include <setjmp.h>

@@ -10,7 +10,7 @@
 #
 #   - A sanitizer's finding ends the process with status 86, which the
 #     plumb command never uses (docs/command.md, "Exit status": 0 to 3),
-#     so that a host test that expects a failing status (tests/torture.sh
+#     so that a host test that expects a failing status (tests/hosts/torture.sh
 #     expects 1 with --strict, which is also the sanitizers' default)
 #     still fails.
 #   - ASan (memory errors and leaks) writes its reports to
@@ -35,9 +35,9 @@
 #     the host unloads the plugin and FFTW with it. Leaks are checked in
 #     the hosts this project owns (the cmocka hosts and the command).
 #     lv2_validate, lv2ls and lv2info read the TTL files and never load
-#     the plugin, so they run as they are (tests/install.sh passes so).
+#     the plugin, so they run as they are (tests/hosts/install.sh passes so).
 #   - CC, CFLAGS and LDFLAGS are passed on as given (tests/sanitize.mk
-#     sets them), so that tests/install.sh's `make install BUILD=...`
+#     sets them), so that tests/hosts/install.sh's `make install BUILD=...`
 #     would rebuild with the same flags.
 #
 # The last line is the totals, "N passed, N failed", as tests/run.sh's.
