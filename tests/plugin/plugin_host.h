@@ -1,182 +1,103 @@
 /*
-  A small LV2 host for the project's plugin tests: it loads
+  The LV2 host of the project's plugin tests (plugin_host.c): it loads
   build/plumb.lv2/plumb.so beside the test binary, gives it what a
-  workstation gives (urid:map and unmap from tests/urid_table.c, log:log,
-  options with the sample rate and block lengths, and optionally one more
-  feature such as work:schedule), connects every port to buffers of its
-  own and runs blocks with a control sequence forged beforehand.
+  workstation gives (urid:map and unmap from tests/lib/urid_table.c,
+  log:log, options with the sample rate and block lengths, and, as a
+  test asks, work:schedule from worker_host.c or any other feature such
+  as state:makePath), connects every port to buffers of its own and runs
+  blocks with a control sequence forged beforehand.
 
-  Header-only (static inline), because the Makefile links each test with
-  a fixed set of helper objects. Not real-time code.
+  Every C plugin test uses it; what a test checks about the host's side
+  (counted calls, its own makePath or mapPath) stays in the test, which
+  plugs it in through the hooks below. Not real-time code, except
+  host_block_run(), which is what the audio thread of a host does.
 */
 #ifndef PLUMB_TEST_PLUGIN_HOST_H
 #define PLUMB_TEST_PLUGIN_HOST_H
 
 #include "urid_table.h"
+#include "worker_host.h"
 
 #include "ports.h"
 
 #include <lv2/atom/atom.h>
 #include <lv2/atom/forge.h>
 #include <lv2/atom/util.h>
-#include <lv2/buf-size/buf-size.h>
 #include <lv2/core/lv2.h>
 #include <lv2/log/log.h>
 #include <lv2/options/options.h>
-#include <lv2/parameters/parameters.h>
 #include <lv2/urid/urid.h>
+#include <lv2/worker/worker.h>
 
-#include <dlfcn.h>
 #include <limits.h>
-#include <stdarg.h>
 #include <stdbool.h>
+#include <stddef.h>
 #include <stdint.h>
-#include <stdio.h>
-#include <stdlib.h>
-#include <string.h>
-#include <unistd.h>
 
-#define HOST_PLUGIN_URI "urn:plumb:intonation"
+#define HOST_PLUGIN_URI       "urn:plumb:intonation"
 #define HOST_MAX_BLOCK_FRAMES 4096
-#define HOST_CONTROL_BYTES 16384
-#define HOST_NOTIFY_BYTES 32768
+#define HOST_CONTROL_BYTES    16384
+#define HOST_NOTIFY_BYTES     32768
+#define HOST_MAX_FEATURES     8
 
-static inline LV2_URID host_map(const char *uri) {
-  return urid_table_map(NULL, uri);
-}
+/* The shared URID table, outside the plugin's calls. */
+LV2_URID host_map(const char *uri);
+
+/* The class and keys of the time:Position a host sends (time.lv2). */
+typedef struct {
+  LV2_URID Position, frame, speed, bar, barBeat, beatsPerBar, beatsPerMinute;
+} host_time_uris;
+
+void host_time_uris_map(host_time_uris *time);
 
 /* ------------------------------------------------------------ loading */
 
 typedef struct {
   void *library;
   const LV2_Descriptor *descriptor;
+  const LV2_Worker_Interface *worker_interface; /* NULL if it has none */
   char bundle[PATH_MAX];
 } host_plugin;
 
 /* build/tests/<test> -> build/plumb.lv2/plumb.so. Returns 0 or -1 (and
    says why on stderr). */
-static inline int host_plugin_load(host_plugin *plugin) {
-  char executable[PATH_MAX];
-  ssize_t length =
-      readlink("/proc/self/exe", executable, sizeof executable - 1);
-  char *slash = NULL;
-  if (length > 0) {
-    executable[length] = '\0';
-    slash = strrchr(executable, '/');
-  }
-  if (!slash) {
-    fprintf(stderr, "cannot find the bundle beside /proc/self/exe\n");
-    return -1;
-  }
-  *slash = '\0';
-  snprintf(plugin->bundle, sizeof plugin->bundle, "%.*s/../plumb.lv2/",
-           PATH_MAX - 32, executable);
-  char binary[PATH_MAX + 16];
-  snprintf(binary, sizeof binary, "%splumb.so", plugin->bundle);
-  plugin->library = dlopen(binary, RTLD_NOW | RTLD_LOCAL);
-  if (!plugin->library) {
-    fprintf(stderr, "cannot load %s: %s (run make all)\n", binary, dlerror());
-    return -1;
-  }
-  LV2_Descriptor_Function get =
-      (LV2_Descriptor_Function)dlsym(plugin->library, "lv2_descriptor");
-  for (uint32_t i = 0; get && get(i) && !plugin->descriptor; ++i) {
-    if (strcmp(get(i)->URI, HOST_PLUGIN_URI) == 0) {
-      plugin->descriptor = get(i);
-    }
-  }
-  if (!plugin->descriptor) {
-    fprintf(stderr, "%s has no descriptor for %s\n", binary, HOST_PLUGIN_URI);
-    return -1;
-  }
-  return 0;
-}
-
-static inline void host_plugin_unload(host_plugin *plugin) {
-  if (plugin->library) {
-    dlclose(plugin->library);
-  }
-  memset(plugin, 0, sizeof *plugin);
-}
+int host_plugin_load(host_plugin *plugin);
+void host_plugin_unload(host_plugin *plugin);
 
 /* ------------------------------------------------------------ features */
 
-static inline int host_log_vprintf(LV2_Log_Handle handle, LV2_URID type,
-                                   const char *format, va_list arguments) {
-  (void)handle;
-  (void)type;
-  return vfprintf(stderr, format, arguments);
-}
-
-static inline int host_log_printf(LV2_Log_Handle handle, LV2_URID type,
-                                  const char *format, ...) {
-  va_list arguments;
-  va_start(arguments, format);
-  int written = host_log_vprintf(handle, type, format, arguments);
-  va_end(arguments);
-  return written;
-}
-
+/* Everything one instance is given. A test may replace map.map and
+   unmap.unmap (to count calls, say) after host_features_build(). */
 typedef struct {
   LV2_URID_Map map;
   LV2_URID_Unmap unmap;
-  LV2_Log_Log log;
+  LV2_Log_Log log; /* to stderr, or kept (host_features_keep_log) */
   float sample_rate_hz;
   int32_t min_block_frames, max_block_frames, nominal_block_frames;
   LV2_Options_Option options[5];
-  LV2_Feature features[6];
-  const LV2_Feature *list[7];
+  LV2_Feature features[HOST_MAX_FEATURES];
+  const LV2_Feature *list[HOST_MAX_FEATURES + 1];
   int count;
 } host_features;
 
-static inline void host_set_option(LV2_Options_Option *option, LV2_URID key,
-                                   LV2_URID type, uint32_t size,
-                                   const void *value) {
-  *option =
-      (LV2_Options_Option){LV2_OPTIONS_INSTANCE, 0, key, size, type, value};
-}
+/* urid:map, urid:unmap, log:log, options (sample rate, block lengths
+   1 .. HOST_MAX_BLOCK_FRAMES, nominal `block_frames`) and
+   buf-size:boundedBlockLength. Must not move after this (the list
+   points into it). */
+void host_features_build(host_features *f, double sample_rate_hz, uint32_t block_frames);
+/* One more feature (state:makePath ...). */
+void host_features_add(host_features *f, const char *uri, void *data);
+/* log:log lines are kept, for host_log_count(), instead of printed. */
+void host_features_keep_log(host_features *f);
 
-/* Must not move after this (the list points into it). */
-static inline void host_features_build(host_features *f, double sample_rate_hz,
-                                       uint32_t block_frames) {
-  memset(f, 0, sizeof *f);
-  f->map = (LV2_URID_Map){NULL, urid_table_map};
-  f->unmap = (LV2_URID_Unmap){NULL, urid_table_unmap};
-  f->log = (LV2_Log_Log){NULL, host_log_printf, host_log_vprintf};
-  f->sample_rate_hz = (float)sample_rate_hz;
-  f->min_block_frames = 1;
-  f->max_block_frames = HOST_MAX_BLOCK_FRAMES;
-  f->nominal_block_frames = (int32_t)block_frames;
-  LV2_URID atom_Int = host_map(LV2_ATOM__Int);
-  host_set_option(&f->options[0], host_map(LV2_PARAMETERS__sampleRate),
-                  host_map(LV2_ATOM__Float), sizeof(float), &f->sample_rate_hz);
-  host_set_option(&f->options[1], host_map(LV2_BUF_SIZE__minBlockLength),
-                  atom_Int, sizeof(int32_t), &f->min_block_frames);
-  host_set_option(&f->options[2], host_map(LV2_BUF_SIZE__maxBlockLength),
-                  atom_Int, sizeof(int32_t), &f->max_block_frames);
-  host_set_option(&f->options[3], host_map(LV2_BUF_SIZE__nominalBlockLength),
-                  atom_Int, sizeof(int32_t), &f->nominal_block_frames);
-  f->features[0] = (LV2_Feature){LV2_URID__map, &f->map};
-  f->features[1] = (LV2_Feature){LV2_URID__unmap, &f->unmap};
-  f->features[2] = (LV2_Feature){LV2_LOG__log, &f->log};
-  f->features[3] = (LV2_Feature){LV2_OPTIONS__options, f->options};
-  f->features[4] = (LV2_Feature){LV2_BUF_SIZE__boundedBlockLength, NULL};
-  f->count = 5;
-  for (int i = 0; i < f->count; ++i) {
-    f->list[i] = &f->features[i];
-  }
-  f->list[f->count] = NULL;
-}
-
-/* One more feature (work:schedule, state:makePath ...). */
-static inline void host_features_add(host_features *f, const char *uri,
-                                     void *data) {
-  if (f->count < 6) {
-    f->features[f->count] = (LV2_Feature){uri, data};
-    f->list[f->count] = &f->features[f->count];
-    f->list[++f->count] = NULL;
-  }
-}
+/* The kept log, one for the process; locked, since the plugin's own
+   thread logs too. */
+void host_log_clear(void);
+/* How many times `needle` stands in the kept lines. */
+int host_log_count(const char *needle);
+/* Until `needle` is kept, for at most 2 s (the plugin's own thread
+   reports within a 20 ms poll). */
+bool host_log_wait_for(const char *needle);
 
 /* ------------------------------------------------------------ an instance */
 
@@ -200,82 +121,50 @@ typedef struct {
   float controls[PORT_COUNT];
   host_control_buffer control;
   host_notify_buffer notify;
+  /* The space offered on notify before each run(), after the atom
+     header: all of the buffer unless a test offers less. */
+  uint32_t notify_space_bytes;
   LV2_Atom_Forge forge; /* writes the control sequence, outside run() */
   LV2_Atom_Forge_Frame sequence;
-  LV2_URID atom_Chunk;
+  LV2_URID atom_Chunk, patch_Set, patch_property, patch_value;
+  host_worker worker; /* kind HOST_NO_WORKER unless asked for */
+  LV2_Feature schedule;
+  const LV2_Feature *list[HOST_MAX_FEATURES + 2]; /* features + schedule */
 } host_instance;
 
 /* The defaults of ttl/plumb.ttl, with logging as asked. */
-static inline void host_control_defaults(float controls[PORT_COUNT],
-                                         bool logging) {
-  controls[PORT_REFERENCE] = 440.0f;
-  controls[PORT_TOLERANCE] = 10.0f;
-  controls[PORT_TEMPERAMENT] = 0.0f;
-  controls[PORT_TONIC] = 0.0f;
-  controls[PORT_LOWEST] = 28.0f;
-  controls[PORT_HIGHEST] = 96.0f;
-  controls[PORT_MIN_NOTE] = 80.0f;
-  controls[PORT_LOGGING] = logging ? 1.0f : 0.0f;
-}
+void host_control_defaults(float controls[PORT_COUNT], bool logging);
 
-/* Instantiate and connect every port. NULL when the plugin refuses. */
-static inline host_instance *host_instance_open(const host_plugin *plugin,
-                                                host_features *features,
-                                                double sample_rate_hz,
-                                                bool logging) {
-  host_instance *host = calloc(1, sizeof *host);
-  if (!host) {
-    return NULL;
-  }
-  host->descriptor = plugin->descriptor;
-  host->instance = plugin->descriptor->instantiate(
-      plugin->descriptor, sample_rate_hz, plugin->bundle, features->list);
-  if (!host->instance) {
-    free(host);
-    return NULL;
-  }
-  lv2_atom_forge_init(&host->forge, &features->map);
-  host->atom_Chunk = host_map(LV2_ATOM__Chunk);
-  host_control_defaults(host->controls, logging);
-  const LV2_Descriptor *d = host->descriptor;
-  d->connect_port(host->instance, PORT_IN, host->in);
-  d->connect_port(host->instance, PORT_OUT, host->out);
-  d->connect_port(host->instance, PORT_CONTROL, &host->control);
-  d->connect_port(host->instance, PORT_NOTIFY, &host->notify);
-  for (uint32_t port = PORT_NOTIFY + 1; port < PORT_COUNT; ++port) {
-    d->connect_port(host->instance, port, &host->controls[port]);
-  }
-  return host;
-}
-
-static inline void host_instance_close(host_instance *host) {
-  if (host) {
-    host->descriptor->cleanup(host->instance);
-    free(host);
-  }
-}
+/* Instantiate with `features` (plus work:schedule of the instance's own
+   worker, started here, for a kind that has one), controls at their
+   defaults; no port connected yet. NULL when the plugin refuses. */
+host_instance *host_instance_instantiate(const host_plugin *plugin, host_features *features,
+                                         double sample_rate_hz, bool logging,
+                                         host_worker_kind worker);
+/* connect_port() for every port. */
+void host_instance_connect(host_instance *host);
+/* Instantiate and connect. */
+host_instance *host_instance_open(const host_plugin *plugin, host_features *features,
+                                  double sample_rate_hz, bool logging, host_worker_kind worker);
+/* Stops the worker, if any, and cleans up. NULL is a no-op. */
+void host_instance_close(host_instance *host);
 
 /* Start the control sequence of the next run(); events are then forged
    on host->forge, each after lv2_atom_forge_frame_time(). */
-static inline bool host_control_begin(host_instance *host) {
-  lv2_atom_forge_set_buffer(&host->forge, host->control.bytes,
-                            sizeof host->control.bytes);
-  return lv2_atom_forge_sequence_head(&host->forge, &host->sequence, 0) != 0;
-}
+bool host_control_begin(host_instance *host);
+void host_control_end(host_instance *host);
+/* A patch:Set of `property` at `frame` of the block, up to its
+   patch:value key: the caller forges the value, then pops `object`. */
+bool host_patch_set_begin(host_instance *host, int64_t frame, LV2_Atom_Forge_Frame *object,
+                          LV2_URID property);
 
-static inline void host_control_end(host_instance *host) {
-  lv2_atom_forge_pop(&host->forge, &host->sequence);
-}
-
-/* One run() of `frames` samples from `samples`; the control sequence
-   must have been written (begin, events, end). Notify is offered as lilv
-   does: an empty Chunk whose size is the space there is. */
-static inline void host_run(host_instance *host, const float *samples,
-                            uint32_t frames) {
-  memcpy(host->in, samples, frames * sizeof(float));
-  host->notify.sequence.atom.type = host->atom_Chunk;
-  host->notify.sequence.atom.size = HOST_NOTIFY_BYTES - sizeof(LV2_Atom);
-  host->descriptor->run(host->instance, frames);
-}
+/* What a host does before run(): the input block, and notify offered as
+   lilv does, an empty Chunk whose size is the space there is. */
+void host_block_in(host_instance *host, const float *samples, uint32_t frames);
+/* run(), then the worker's end of the run (the audio thread's part). */
+void host_block_run(host_instance *host, uint32_t frames);
+/* Both: one run() of `frames` samples from `samples`; the control
+   sequence must have been written (begin, events, end). */
+void host_run(host_instance *host, const float *samples, uint32_t frames);
 
 #endif /* PLUMB_TEST_PLUGIN_HOST_H */

@@ -17,21 +17,22 @@
   - a restored state value over 4 KB, or a saved folder that the host's
     state:mapPath cannot map back, keeps the previous value and says so.
 
-  This executable hosts build/plumb.lv2/plumb.so (tests/plugin_host.h)
+  This executable hosts build/plumb.lv2/plumb.so (tests/plugin/plugin_host.c)
   with a log:log that keeps every line for the checks.
 */
+#include "folder_host.h"
 #include "plugin_host.h"
 
-#include <lv2/patch/patch.h>
 #include <lv2/state/state.h>
 
 #include <errno.h>
 #include <fcntl.h>
-#include <ftw.h>
 #include <math.h>
-#include <pthread.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
 #include <sys/stat.h>
-#include <time.h>
+#include <unistd.h>
 
 #include <setjmp.h>
 #include <stddef.h>
@@ -43,66 +44,6 @@
 #define TAKE_BLOCKS    90 /* 0.96 s: a 0.5 s tone, then silence */
 #define LOG_TEXT_BYTES 65536
 
-/* ================================================== a log that keeps lines */
-
-static struct {
-  pthread_mutex_t lock;
-  char text[LOG_TEXT_BYTES];
-  size_t length;
-} captured = {PTHREAD_MUTEX_INITIALIZER, "", 0};
-
-static int capture_vprintf(LV2_Log_Handle handle, LV2_URID type, const char *format,
-                           va_list arguments) {
-  (void)handle;
-  (void)type;
-  pthread_mutex_lock(&captured.lock);
-  size_t room = sizeof captured.text - captured.length;
-  int written = vsnprintf(captured.text + captured.length, room, format, arguments);
-  if (written > 0) {
-    captured.length += (size_t)written < room ? (size_t)written : room - 1;
-  }
-  pthread_mutex_unlock(&captured.lock);
-  return written;
-}
-
-static int capture_printf(LV2_Log_Handle handle, LV2_URID type, const char *format, ...) {
-  va_list arguments;
-  va_start(arguments, format);
-  int written = capture_vprintf(handle, type, format, arguments);
-  va_end(arguments);
-  return written;
-}
-
-static void log_clear(void) {
-  pthread_mutex_lock(&captured.lock);
-  captured.length = 0;
-  captured.text[0] = '\0';
-  pthread_mutex_unlock(&captured.lock);
-}
-
-/* How many lines hold `needle`. */
-static int log_lines_with(const char *needle) {
-  pthread_mutex_lock(&captured.lock);
-  int count = 0;
-  for (const char *at = captured.text; (at = strstr(at, needle)) != NULL; at += strlen(needle)) {
-    ++count;
-  }
-  pthread_mutex_unlock(&captured.lock);
-  return count;
-}
-
-/* The plugin's own thread reports within a 20 ms poll; wait up to 2 s. */
-static bool log_waits_for(const char *needle) {
-  const struct timespec pause = {0, 5000000L};
-  for (int tries = 0; tries < 400; ++tries) {
-    if (log_lines_with(needle) > 0) {
-      return true;
-    }
-    nanosleep(&pause, NULL);
-  }
-  return false;
-}
-
 /* ================================================== the host */
 
 static struct {
@@ -110,28 +51,20 @@ static struct {
   host_features features;
   char root[PATH_MAX - 64];
   char logs[PATH_MAX];
-  LV2_URID patch_Set, patch_property, patch_value;
   LV2_URID log_folder, take_label, source_file, source_channel;
   LV2_URID atom_Path, atom_String, atom_Int;
 } suite;
 
 static host_instance *open_instance(void) {
-  host_instance *host = host_instance_open(&suite.plugin, &suite.features, SAMPLE_RATE_HZ, true);
+  host_instance *host = host_instance_open(&suite.plugin, &suite.features, SAMPLE_RATE_HZ, true,
+                                             HOST_NO_WORKER);
   assert_non_null(host);
   return host;
 }
 
-static void forge_set_head(host_instance *host, LV2_Atom_Forge_Frame *frame, LV2_URID key) {
-  lv2_atom_forge_frame_time(&host->forge, 0);
-  lv2_atom_forge_object(&host->forge, frame, 0, suite.patch_Set);
-  lv2_atom_forge_key(&host->forge, suite.patch_property);
-  lv2_atom_forge_urid(&host->forge, key);
-  lv2_atom_forge_key(&host->forge, suite.patch_value);
-}
-
 static void set_text(host_instance *host, LV2_URID key, LV2_URID type, const char *text) {
   LV2_Atom_Forge_Frame frame;
-  forge_set_head(host, &frame, key);
+  host_patch_set_begin(host, 0, &frame, key);
   uint32_t length = (uint32_t)strlen(text);
   lv2_atom_forge_atom(&host->forge, length + 1, type);
   lv2_atom_forge_write(&host->forge, text, length + 1);
@@ -140,7 +73,7 @@ static void set_text(host_instance *host, LV2_URID key, LV2_URID type, const cha
 
 static void set_int(host_instance *host, LV2_URID key, int32_t value) {
   LV2_Atom_Forge_Frame frame;
-  forge_set_head(host, &frame, key);
+  host_patch_set_begin(host, 0, &frame, key);
   lv2_atom_forge_int(&host->forge, value);
   lv2_atom_forge_pop(&host->forge, &frame);
 }
@@ -274,29 +207,20 @@ static bool valid_utf8(const unsigned char *s) {
   return true;
 }
 
-static int remove_one(const char *path, const struct stat *info, int flag, struct FTW *walk) {
-  (void)info;
-  (void)flag;
-  (void)walk;
-  return remove(path);
-}
-
 static int fresh_folders(void **state) {
   (void)state;
-  snprintf(suite.root, sizeof suite.root, "%s/plumb-guard.XXXXXX",
-           getenv("TMPDIR") ? getenv("TMPDIR") : "/tmp");
-  if (!mkdtemp(suite.root)) {
+  if (host_folder_make(suite.root, sizeof suite.root, "plumb-guard") != 0) {
     return -1;
   }
   snprintf(suite.logs, sizeof suite.logs, "%s/logs", suite.root);
-  log_clear();
+  host_log_clear();
   return mkdir(suite.logs, 0777) || setenv("PLUMB_LOG_DIR", suite.logs, 1);
 }
 
 static int remove_folders(void **state) {
   if (getenv("PLUMB_TEST_KEEP")) return 0;
   (void)state;
-  return nftw(suite.root, remove_one, 16, FTW_DEPTH | FTW_PHYS);
+  return host_folder_remove(suite.root);
 }
 
 /* ================================================== the tests */
@@ -337,8 +261,8 @@ static void test_symbolic_links_are_never_followed(void **state) {
   assert_true(has_rows(suite.logs, "good-2.notes.csv"));
   assert_true(has_rows(suite.logs, "other-2.notes.csv"));
   assert_non_null(strstr(read_json(suite.logs, "good-2.run.json"), "\"take\": \"good-2\""));
-  assert_int_equal(log_lines_with("good.notes.csv is not a regular file"), 1);
-  assert_int_equal(log_lines_with("other.run.json is not a regular file"), 1);
+  assert_int_equal(host_log_count("good.notes.csv is not a regular file"), 1);
+  assert_int_equal(host_log_count("other.run.json is not a regular file"), 1);
 }
 
 /* A FIFO (no reader: the open must not block) and a folder at the name. */
@@ -359,8 +283,8 @@ static void test_fifo_and_folder_are_left_alone(void **state) {
   assert_int_equal(kind_of(suite.logs, "dir.notes.csv"), S_IFDIR);
   assert_true(has_rows(suite.logs, "pipe-2.notes.csv"));
   assert_true(has_rows(suite.logs, "dir-2.notes.csv"));
-  assert_int_equal(log_lines_with("pipe.notes.csv is not a regular file"), 1);
-  assert_int_equal(log_lines_with("dir.notes.csv is not a regular file"), 1);
+  assert_int_equal(host_log_count("pipe.notes.csv is not a regular file"), 1);
+  assert_int_equal(host_log_count("dir.notes.csv is not a regular file"), 1);
 }
 
 /* A relative folder after an absolute one: refused, the absolute one
@@ -381,7 +305,7 @@ static void test_relative_folder_is_refused(void **state) {
   assert_true(has_rows(chosen, "rel.notes.csv"));
   assert_int_equal(kind_of(suite.root, "relative"), 0);
   assert_false(is_regular(suite.logs, "rel.notes.csv"));
-  assert_int_equal(log_lines_with("must be an absolute path"), 1);
+  assert_int_equal(host_log_count("must be an absolute path"), 1);
   assert_true(log_ok == 1.0f);
 }
 
@@ -403,7 +327,7 @@ static void test_long_labels_keep_whole_characters(void **state) {
       }
     }
     assert_int_equal(strlen(label), 300);
-    log_clear();
+    host_log_clear();
     host_instance *host = open_instance();
     take_messages m = {suite.logs, NULL, label, NULL, 0};
     run_take(host, &m);
@@ -419,7 +343,7 @@ static void test_long_labels_keep_whole_characters(void **state) {
     char field[400];
     snprintf(field, sizeof field, "\"take_label\": \"%s\",", expected);
     assert_non_null(strstr(json, field));
-    assert_int_equal(log_lines_with("shortened to 255 bytes"), 1);
+    assert_int_equal(host_log_count("shortened to 255 bytes"), 1);
     char path[PATH_MAX];
     path_in(path, sizeof path, suite.logs, stem);
     unlink(path);
@@ -490,8 +414,8 @@ static void test_source_and_run_id(void **state) {
   assert_null(strstr(json, "source_file"));
   assert_null(strstr(json, "source_channel"));
   assert_non_null(strstr(json, "\"run_id\": \""));
-  assert_int_equal(log_lines_with("the source channel must be"), 1);
-  assert_int_equal(log_lines_with("the source file must be"), 1);
+  assert_int_equal(host_log_count("the source channel must be"), 1);
+  assert_int_equal(host_log_count("the source file must be"), 1);
 }
 
 /* ------------------------------------------------ state */
@@ -551,16 +475,16 @@ static void test_state_refusals_are_said(void **state) {
   one_value folder = {suite.log_folder, "elsewhere", sizeof "elsewhere", suite.atom_Path};
   assert_int_equal(interface->restore(host->instance, retrieve_one, &folder, 0, with_map),
                    LV2_STATE_SUCCESS);
-  assert_true(log_waits_for("too large to restore"));
-  assert_true(log_waits_for("could not map the saved log folder"));
+  assert_true(host_log_wait_for("too large to restore"));
+  assert_true(host_log_wait_for("could not map the saved log folder"));
   char path[PATH_MAX];
   path_in(path, sizeof path, chosen, "kept.notes.csv");
   assert_int_equal(unlink(path), 0);
   run_take(host, NULL); /* the previous folder and label are still set */
   host_instance_close(host);
   assert_true(has_rows(chosen, "kept.notes.csv"));
-  assert_int_equal(log_lines_with("too large to restore"), 1);
-  assert_int_equal(log_lines_with("could not map the saved log folder"), 1);
+  assert_int_equal(host_log_count("too large to restore"), 1);
+  assert_int_equal(host_log_count("could not map the saved log folder"), 1);
 }
 
 /* ================================================== setup */
@@ -571,11 +495,7 @@ static int setup_suite(void **state) {
     return -1;
   }
   host_features_build(&suite.features, SAMPLE_RATE_HZ, BLOCK_FRAMES);
-  suite.features.log.printf = capture_printf;
-  suite.features.log.vprintf = capture_vprintf;
-  suite.patch_Set = host_map(LV2_PATCH__Set);
-  suite.patch_property = host_map(LV2_PATCH__property);
-  suite.patch_value = host_map(LV2_PATCH__value);
+  host_features_keep_log(&suite.features);
   suite.log_folder = host_map("urn:plumb:logFolder");
   suite.take_label = host_map("urn:plumb:takeLabel");
   suite.source_file = host_map("urn:plumb:sourceFile");

@@ -2,9 +2,9 @@
   The notify port's note objects (docs/ports.md, "Note objects").
 
   This executable hosts build/plumb.lv2/plumb.so as an LV2 host would
-  (urid:map and unmap, log:log, options), runs a synthetic take of six
-  notes, one of them 30 cents sharp, and reads every urn:plumb:Note
-  object from notify after each run(). The truth is the analysis core
+  (tests/plugin/plugin_host.c: urid:map and unmap, log:log, options),
+  runs a synthetic take of six notes, one of them 30 cents sharp, and
+  reads every urn:plumb:Note object from notify after each run(). The truth is the analysis core
   run directly on the same samples (plumb_new / plumb_process, with the
   same denormal mode as run()): one object a note, in order, every
   property bit for bit the core's value, and absent exactly where the
@@ -18,29 +18,13 @@
   synthetic notes with every field known, through the note object format
   (plugin/formats/note_object.c) that the plugin uses.
 */
-#include "urid_table.h"
-#include "signal.h"
+#include "plugin_host.h"
+#include "take_host.h"
 
 #include "note_object.h"
-#include "ports.h"
 #include "plumb.h"
 
-#include <lv2/atom/atom.h>
-#include <lv2/atom/forge.h>
-#include <lv2/atom/util.h>
-#include <lv2/buf-size/buf-size.h>
-#include <lv2/core/lv2.h>
-#include <lv2/log/log.h>
-#include <lv2/options/options.h>
-#include <lv2/parameters/parameters.h>
-#include <lv2/time/time.h>
-#include <lv2/urid/urid.h>
-
-#include <dlfcn.h>
-#include <limits.h>
 #include <math.h>
-#include <pthread.h>
-#include <stdarg.h>
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
@@ -57,22 +41,12 @@
 #include <cmocka.h>
 
 #define SAMPLE_RATE_HZ 48000.0
-#define MAX_BLOCK_FRAMES 4096
-#define NOTIFY_BUFFER_BYTES 16384
+#define NOTIFY_BUFFER_BYTES 16384 /* what this host offers on notify */
 #define NOTIFY_SPACE_BYTES (NOTIFY_BUFFER_BYTES - 8) /* after the header */
 #define SMALL_NOTIFY_BYTES 256
-#define PLUGIN_URI "urn:plumb:intonation"
 #define NOTE_CLASS_URI "urn:plumb:Note"
 #define NOTE_KEY_PREFIX "urn:plumb:note#"
 #define MAX_NOTES 32
-
-/* ================================================== URIDs */
-
-/* The shared table: tests/urid_table.c. */
-#define map_uri urid_table_map
-#define unmap_uri urid_table_unmap
-
-static LV2_URID map_plain(const char *uri) { return map_uri(NULL, uri); }
 
 /* ================================================== the note fields */
 
@@ -84,7 +58,7 @@ typedef enum {
   FIELD_PARTIAL_CENTS /* atom:Vector of atom:Float up to the last found */
 } field_kind;
 
-/* Every member of plumb_note (core/plumb.h), as docs/ports.md lists it. */
+/* Every member of plumb_note (core/include/plumb.h), as docs/ports.md lists it. */
 typedef struct {
   const char *name;
   field_kind kind;
@@ -191,14 +165,11 @@ typedef struct {
   float shown[3];
 } received_note;
 
-typedef struct {
-  LV2_URID atom_Chunk, atom_Sequence, atom_Object, atom_Int, atom_Double,
-      atom_Float, atom_Vector, plumb_Note, param_sampleRate, bufsz_min,
-      bufsz_max, bufsz_nominal, time_Position, time_frame, time_speed,
-      time_bar, time_barBeat, time_beatsPerBar, time_beatsPerMinute;
-} host_uris;
-
-static host_uris uris;
+static struct {
+  LV2_URID atom_Sequence, atom_Object, atom_Int, atom_Double, atom_Float,
+      atom_Vector, plumb_Note;
+  host_time_uris time;
+} uris;
 
 static int field_of_key(LV2_URID key) {
   for (size_t i = 0; i < FIELD_COUNT; ++i) {
@@ -280,66 +251,6 @@ static void read_note(received_note *note, const LV2_Atom_Event *event) {
 
 /* ================================================== the host */
 
-typedef struct {
-  LV2_URID_Map map;
-  LV2_URID_Unmap unmap;
-  LV2_Log_Log log;
-  float sample_rate_hz;
-  int32_t min_block, max_block, nominal_block;
-  LV2_Options_Option options[5];
-  LV2_Feature features[4];
-  const LV2_Feature *list[5];
-} host_features;
-
-static int log_vprintf(LV2_Log_Handle handle, LV2_URID type, const char *format,
-                       va_list arguments) {
-  (void)handle;
-  (void)type;
-  return vfprintf(stderr, format, arguments);
-}
-
-static int log_printf(LV2_Log_Handle handle, LV2_URID type, const char *format,
-                      ...) {
-  va_list arguments;
-  va_start(arguments, format);
-  int written = log_vprintf(handle, type, format, arguments);
-  va_end(arguments);
-  return written;
-}
-
-static void set_option(LV2_Options_Option *option, LV2_URID key, LV2_URID type,
-                       uint32_t size, const void *value) {
-  *option =
-      (LV2_Options_Option){LV2_OPTIONS_INSTANCE, 0, key, size, type, value};
-}
-
-static void build_features(host_features *f, uint32_t block_frames) {
-  memset(f, 0, sizeof *f);
-  f->map = (LV2_URID_Map){NULL, map_uri};
-  f->unmap = (LV2_URID_Unmap){NULL, unmap_uri};
-  f->log = (LV2_Log_Log){NULL, log_printf, log_vprintf};
-  f->sample_rate_hz = (float)SAMPLE_RATE_HZ;
-  f->min_block = 1;
-  f->max_block = MAX_BLOCK_FRAMES;
-  f->nominal_block = (int32_t)block_frames;
-  set_option(&f->options[0], uris.param_sampleRate, uris.atom_Float,
-             sizeof(float), &f->sample_rate_hz);
-  set_option(&f->options[1], uris.bufsz_min, uris.atom_Int, sizeof(int32_t),
-             &f->min_block);
-  set_option(&f->options[2], uris.bufsz_max, uris.atom_Int, sizeof(int32_t),
-             &f->max_block);
-  set_option(&f->options[3], uris.bufsz_nominal, uris.atom_Int,
-             sizeof(int32_t), &f->nominal_block);
-  f->features[0] = (LV2_Feature){LV2_URID__map, &f->map};
-  f->features[1] = (LV2_Feature){LV2_URID__unmap, &f->unmap};
-  f->features[2] = (LV2_Feature){LV2_LOG__log, &f->log};
-  f->features[3] = (LV2_Feature){LV2_OPTIONS__options, f->options};
-  for (int i = 0; i < 4; ++i) {
-    f->list[i] = &f->features[i];
-  }
-  f->list[4] = NULL;
-}
-
 /* What one take through the plugin gave. */
 typedef struct {
   received_note notes[MAX_NOTES];
@@ -356,28 +267,8 @@ static const plumb_port last_note_ports[3] = {PORT_LAST_HNR,
                                               PORT_LAST_ODD_EVEN,
                                               PORT_LAST_ATTACK};
 
-typedef struct {
-  const LV2_Descriptor *descriptor;
-  LV2_Handle instance;
-  float in[MAX_BLOCK_FRAMES];
-  float out[MAX_BLOCK_FRAMES];
-  float controls[PORT_COUNT];
-  union {
-    LV2_Atom_Sequence sequence;
-    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
-    uint8_t bytes[1024];
-  } control;
-  union {
-    LV2_Atom_Sequence sequence;
-    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
-    uint8_t bytes[NOTIFY_BUFFER_BYTES];
-  } notify;
-} plugin_host;
-
 static struct {
-  const LV2_Descriptor *descriptor;
-  void *library;
-  char bundle[PATH_MAX];
+  host_plugin plugin;
   LV2_URID_Map map;
   float *take;
   size_t take_frames;
@@ -385,32 +276,9 @@ static struct {
   size_t core_count;
 } suite;
 
-/* The defaults of ttl/plumb.ttl; no session log is written. */
-static void set_control_defaults(float controls[PORT_COUNT]) {
-  controls[PORT_REFERENCE] = 440.0f;
-  controls[PORT_TOLERANCE] = 10.0f;
-  controls[PORT_TEMPERAMENT] = 0.0f;
-  controls[PORT_TONIC] = 0.0f;
-  controls[PORT_LOWEST] = 28.0f;
-  controls[PORT_HIGHEST] = 96.0f;
-  controls[PORT_MIN_NOTE] = 80.0f;
-  controls[PORT_LOGGING] = 0.0f;
-}
-
-static void connect_every_port(plugin_host *host) {
-  const LV2_Descriptor *d = host->descriptor;
-  d->connect_port(host->instance, PORT_IN, host->in);
-  d->connect_port(host->instance, PORT_OUT, host->out);
-  d->connect_port(host->instance, PORT_CONTROL, &host->control);
-  d->connect_port(host->instance, PORT_NOTIFY, &host->notify);
-  for (uint32_t port = PORT_NOTIFY + 1; port < PORT_COUNT; ++port) {
-    d->connect_port(host->instance, port, &host->controls[port]);
-  }
-}
-
 /* Read notify after one run() that was offered `space` bytes after the
    atom header (the Chunk's size). */
-static void read_last_note_ports(const plugin_host *host, take_result *result,
+static void read_last_note_ports(const host_instance *host, take_result *result,
                                  size_t first_of_run) {
   float shown[3];
   bool nan = false;
@@ -429,7 +297,7 @@ static void read_last_note_ports(const plugin_host *host, take_result *result,
   }
 }
 
-static void collect(const plugin_host *host, uint32_t space,
+static void collect(const host_instance *host, uint32_t space,
                     size_t block_frames, take_result *result) {
   size_t first_of_run = result->count;
   const LV2_Atom_Sequence *sequence = &host->notify.sequence;
@@ -464,46 +332,37 @@ static void collect(const plugin_host *host, uint32_t space,
 #define START_BEATS_PER_BAR 4.0f
 #define START_BPM 100.0f
 
-static void write_start_position(plugin_host *host) {
-  LV2_Atom_Forge forge;
-  LV2_Atom_Forge_Frame sequence, object;
-  lv2_atom_forge_init(&forge, &suite.map);
-  lv2_atom_forge_set_buffer(&forge, host->control.bytes,
-                            sizeof host->control.bytes);
-  lv2_atom_forge_sequence_head(&forge, &sequence, 0);
-  lv2_atom_forge_frame_time(&forge, 0);
-  lv2_atom_forge_object(&forge, &object, 0, uris.time_Position);
-  lv2_atom_forge_key(&forge, uris.time_frame);
-  lv2_atom_forge_long(&forge, START_FRAME);
-  lv2_atom_forge_key(&forge, uris.time_speed);
-  lv2_atom_forge_float(&forge, 1.0f);
-  lv2_atom_forge_key(&forge, uris.time_bar);
-  lv2_atom_forge_long(&forge, START_BAR);
-  lv2_atom_forge_key(&forge, uris.time_barBeat);
-  lv2_atom_forge_float(&forge, START_BAR_BEAT);
-  lv2_atom_forge_key(&forge, uris.time_beatsPerBar);
-  lv2_atom_forge_float(&forge, START_BEATS_PER_BAR);
-  lv2_atom_forge_key(&forge, uris.time_beatsPerMinute);
-  lv2_atom_forge_float(&forge, START_BPM);
-  lv2_atom_forge_pop(&forge, &object);
-  lv2_atom_forge_pop(&forge, &sequence);
+static void write_start_position(host_instance *host) {
+  LV2_Atom_Forge *forge = &host->forge;
+  LV2_Atom_Forge_Frame object;
+  lv2_atom_forge_frame_time(forge, 0);
+  lv2_atom_forge_object(forge, &object, 0, uris.time.Position);
+  lv2_atom_forge_key(forge, uris.time.frame);
+  lv2_atom_forge_long(forge, START_FRAME);
+  lv2_atom_forge_key(forge, uris.time.speed);
+  lv2_atom_forge_float(forge, 1.0f);
+  lv2_atom_forge_key(forge, uris.time.bar);
+  lv2_atom_forge_long(forge, START_BAR);
+  lv2_atom_forge_key(forge, uris.time.barBeat);
+  lv2_atom_forge_float(forge, START_BAR_BEAT);
+  lv2_atom_forge_key(forge, uris.time.beatsPerBar);
+  lv2_atom_forge_float(forge, START_BEATS_PER_BAR);
+  lv2_atom_forge_key(forge, uris.time.beatsPerMinute);
+  lv2_atom_forge_float(forge, START_BPM);
+  lv2_atom_forge_pop(forge, &object);
 }
 
-static void run_block(plugin_host *host, size_t begin, size_t frames,
+static void run_block(host_instance *host, size_t begin, size_t frames,
                       uint32_t space, take_result *result) {
-  memcpy(host->in, suite.take + begin, frames * sizeof(float));
-  host->control.sequence.atom.type = uris.atom_Sequence;
-  host->control.sequence.atom.size = sizeof(LV2_Atom_Sequence_Body);
-  host->control.sequence.body.unit = 0;
-  host->control.sequence.body.pad = 0;
+  host_control_begin(host);
   if (begin == 0) {
     write_start_position(host);
   }
+  host_control_end(host);
   /* As lilv does: an empty Chunk whose size is the space there is. */
   memset(host->notify.bytes, 0xa5, sizeof host->notify.bytes);
-  host->notify.sequence.atom.type = uris.atom_Chunk;
-  host->notify.sequence.atom.size = space;
-  host->descriptor->run(host->instance, (uint32_t)frames);
+  host->notify_space_bytes = space;
+  host_run(host, suite.take + begin, (uint32_t)frames);
   collect(host, space, frames, result);
 }
 
@@ -512,30 +371,21 @@ static void run_block(plugin_host *host, size_t begin, size_t frames,
 static bool drive_take(size_t block_frames, uint32_t space,
                        take_result *result) {
   memset(result, 0, sizeof *result);
-  plugin_host *host = calloc(1, sizeof *host);
   host_features features;
+  host_features_build(&features, SAMPLE_RATE_HZ, (uint32_t)block_frames);
+  host_instance *host = host_instance_open(&suite.plugin, &features,
+                                           SAMPLE_RATE_HZ, false, HOST_NO_WORKER);
   if (!host) {
     return false;
   }
-  build_features(&features, (uint32_t)block_frames);
-  host->descriptor = suite.descriptor;
-  host->instance = suite.descriptor->instantiate(
-      suite.descriptor, SAMPLE_RATE_HZ, suite.bundle, features.list);
-  if (!host->instance) {
-    free(host);
-    return false;
-  }
-  set_control_defaults(host->controls);
-  connect_every_port(host);
-  suite.descriptor->activate(host->instance);
+  host->descriptor->activate(host->instance);
   for (size_t begin = 0; begin < suite.take_frames; begin += block_frames) {
     size_t left = suite.take_frames - begin;
     run_block(host, begin, left < block_frames ? left : block_frames, space,
               result);
   }
-  suite.descriptor->deactivate(host->instance);
-  suite.descriptor->cleanup(host->instance);
-  free(host);
+  host->descriptor->deactivate(host->instance);
+  host_instance_close(host);
   return true;
 }
 
@@ -558,21 +408,7 @@ static const sig_note take_notes[] = {
 #define TAKE_NOTES (sizeof take_notes / sizeof take_notes[0])
 
 static float *render_take(size_t *n) {
-  *n = (size_t)lround(TAKE_S * SAMPLE_RATE_HZ);
-  float *samples = calloc(*n, sizeof *samples);
-  sig_voice voice;
-  memset(&voice, 0, sizeof voice);
-  voice.timbre = (sig_timbre){8, SIG_AMPS_SAWTOOTH, NULL, 0.0, true, 11};
-  voice.envelope =
-      (sig_envelope){SIG_RAMP_LINEAR, 0.02, 0.10, -4.0, SIG_RAMP_EXP, 0.04};
-  voice.reference_hz = 440.0;
-  voice.amplitude = 0.2;
-  if (!samples || sig_render_notes(&voice, take_notes, TAKE_NOTES,
-                                   SAMPLE_RATE_HZ, samples, *n) != 0) {
-    free(samples);
-    return NULL;
-  }
-  return samples;
+  return host_take_render(take_notes, TAKE_NOTES, TAKE_S, SAMPLE_RATE_HZ, 11, n);
 }
 
 /* The core on the same samples, in run()'s denormal mode (FTZ and DAZ),
@@ -970,76 +806,25 @@ static void test_whole_object_or_none(void **state) {
 
 /* ================================================== setup */
 
-/* build/tests/test_notify -> build/plumb.lv2/ */
-static int find_bundle(char *bundle, size_t size) {
-  char executable[PATH_MAX];
-  ssize_t length =
-      readlink("/proc/self/exe", executable, sizeof executable - 1);
-  if (length <= 0) {
-    return -1;
-  }
-  executable[length] = '\0';
-  char *slash = strrchr(executable, '/');
-  if (!slash) {
-    return -1;
-  }
-  *slash = '\0';
-  int written = snprintf(bundle, size, "%s/../plumb.lv2/", executable);
-  return written > 0 && (size_t)written < size ? 0 : -1;
-}
-
-static int load_plugin(void) {
-  char binary[PATH_MAX + 16];
-  if (find_bundle(suite.bundle, sizeof suite.bundle) != 0) {
-    fprintf(stderr, "cannot find the bundle beside /proc/self/exe\n");
-    return -1;
-  }
-  snprintf(binary, sizeof binary, "%splumb.so", suite.bundle);
-  suite.library = dlopen(binary, RTLD_NOW | RTLD_LOCAL);
-  if (!suite.library) {
-    fprintf(stderr, "cannot load %s: %s (run make all)\n", binary, dlerror());
-    return -1;
-  }
-  LV2_Descriptor_Function get =
-      (LV2_Descriptor_Function)dlsym(suite.library, "lv2_descriptor");
-  for (uint32_t i = 0; get && get(i) && !suite.descriptor; ++i) {
-    if (strcmp(get(i)->URI, PLUGIN_URI) == 0) {
-      suite.descriptor = get(i);
-    }
-  }
-  return suite.descriptor ? 0 : -1;
-}
-
 static void map_uris(void) {
-  uris.atom_Chunk = map_plain(LV2_ATOM__Chunk);
-  uris.atom_Sequence = map_plain(LV2_ATOM__Sequence);
-  uris.atom_Object = map_plain(LV2_ATOM__Object);
-  uris.atom_Int = map_plain(LV2_ATOM__Int);
-  uris.atom_Double = map_plain(LV2_ATOM__Double);
-  uris.atom_Float = map_plain(LV2_ATOM__Float);
-  uris.atom_Vector = map_plain(LV2_ATOM__Vector);
-  uris.time_Position = map_plain(LV2_TIME__Position);
-  uris.time_frame = map_plain(LV2_TIME__frame);
-  uris.time_speed = map_plain(LV2_TIME__speed);
-  uris.time_bar = map_plain(LV2_TIME__bar);
-  uris.time_barBeat = map_plain(LV2_TIME__barBeat);
-  uris.time_beatsPerBar = map_plain(LV2_TIME__beatsPerBar);
-  uris.time_beatsPerMinute = map_plain(LV2_TIME__beatsPerMinute);
-  uris.plumb_Note = map_plain(NOTE_CLASS_URI);
-  uris.param_sampleRate = map_plain(LV2_PARAMETERS__sampleRate);
-  uris.bufsz_min = map_plain(LV2_BUF_SIZE__minBlockLength);
-  uris.bufsz_max = map_plain(LV2_BUF_SIZE__maxBlockLength);
-  uris.bufsz_nominal = map_plain(LV2_BUF_SIZE__nominalBlockLength);
+  uris.atom_Sequence = host_map(LV2_ATOM__Sequence);
+  uris.atom_Object = host_map(LV2_ATOM__Object);
+  uris.atom_Int = host_map(LV2_ATOM__Int);
+  uris.atom_Double = host_map(LV2_ATOM__Double);
+  uris.atom_Float = host_map(LV2_ATOM__Float);
+  uris.atom_Vector = host_map(LV2_ATOM__Vector);
+  host_time_uris_map(&uris.time);
+  uris.plumb_Note = host_map(NOTE_CLASS_URI);
   for (size_t i = 0; i < FIELD_COUNT; ++i) {
     char uri[160];
     snprintf(uri, sizeof uri, "%s%s", NOTE_KEY_PREFIX, fields[i].name);
-    fields[i].key = map_plain(uri);
+    fields[i].key = host_map(uri);
   }
 }
 
 static int setup_suite(void **state) {
   (void)state;
-  suite.map = (LV2_URID_Map){NULL, map_uri};
+  suite.map = (LV2_URID_Map){NULL, urid_table_map};
   map_uris();
   suite.take = render_take(&suite.take_frames);
   if (!suite.take) {
@@ -1049,15 +834,13 @@ static int setup_suite(void **state) {
   if (run_core_directly() != 0) {
     return -1;
   }
-  return load_plugin();
+  return host_plugin_load(&suite.plugin);
 }
 
 static int teardown_suite(void **state) {
   (void)state;
   free(suite.take);
-  if (suite.library) {
-    dlclose(suite.library);
-  }
+  host_plugin_unload(&suite.plugin);
   return 0;
 }
 

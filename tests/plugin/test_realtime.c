@@ -36,7 +36,7 @@
     host's own non-real-time business, so the counting pauses inside it;
     run() around it must still be clean, nothing may deadlock, and every
     host must leave the same log;
-  - the analysis core's [RT] calls directly (core/plumb.h);
+  - the analysis core's [RT] calls directly (core/include/plumb.h);
   - a loud note followed by denormal-range silence: bit-exact output, and
     the run() time per block printed (the specification bounds run() by
     A + B * sample_count "not depending on input signals"; timing is
@@ -44,24 +44,13 @@
 */
 #define _GNU_SOURCE /* RTLD_NEXT, RTLD_DEFAULT, O_TMPFILE, usleep */
 
-#include "urid_table.h"
-#include "signal.h"
+#include "folder_host.h"
+#include "plugin_host.h"
+#include "take_host.h"
 
-#include "ports.h"
 #include "plumb.h"
 
-#include <lv2/atom/atom.h>
-#include <lv2/atom/forge.h>
-#include <lv2/atom/util.h>
-#include <lv2/buf-size/buf-size.h>
-#include <lv2/core/lv2.h>
-#include <lv2/log/log.h>
-#include <lv2/options/options.h>
-#include <lv2/parameters/parameters.h>
 #include <lv2/patch/patch.h>
-#include <lv2/time/time.h>
-#include <lv2/urid/urid.h>
-#include <lv2/worker/worker.h>
 
 #include <dirent.h>
 #include <dlfcn.h>
@@ -390,17 +379,15 @@ FORWARD(int, clock_nanosleep,
 /* ================================================== the test host */
 
 #define SAMPLE_RATE_HZ 48000.0
-#define MAX_BLOCK_FRAMES 4096
-#define ATOM_BUFFER_BYTES 16384 /* control in and notify out */
 
 /* The parameters, as docs/ports.md names them. */
 #define LOG_FOLDER_URI "urn:plumb:logFolder"
 #define TAKE_LABEL_URI "urn:plumb:takeLabel"
 #define CUSTOM_OFFSETS_URI "urn:plumb:customOffsets"
-#define PLUGIN_URI "urn:plumb:intonation"
 
-/* The URIDs come from the shared table (tests/urid_table.c), every call
-   counted: the plugin maps only in instantiate(). */
+/* The host (tests/plugin/plugin_host.c) maps with the shared table
+   (tests/lib/urid_table.c); here every call the plugin makes is counted:
+   it maps only in instantiate(). */
 static LV2_URID map_uri(LV2_URID_Map_Handle handle, const char *uri) {
   note_call(CALL_urid_map);
   return urid_table_map(handle, uri);
@@ -411,29 +398,11 @@ static const char *unmap_uri(LV2_URID_Unmap_Handle handle, LV2_URID urid) {
   return urid_table_unmap(handle, urid);
 }
 
-/* log:log to stderr. From run() it would count as vfprintf. */
-static int log_vprintf(LV2_Log_Handle handle, LV2_URID type, const char *format,
-                       va_list arguments) {
-  (void)handle;
-  (void)type;
-  return vfprintf(stderr, format, arguments);
-}
-
-static int log_printf(LV2_Log_Handle handle, LV2_URID type, const char *format,
-                      ...) {
-  va_list arguments;
-  va_start(arguments, format);
-  int written = log_vprintf(handle, type, format, arguments);
-  va_end(arguments);
-  return written;
-}
-
 typedef struct {
   LV2_URID atom_Chunk, atom_Float, atom_Int, atom_Long, atom_Path, atom_String,
-      atom_URID, param_sampleRate, bufsz_minBlockLength, bufsz_maxBlockLength,
-      bufsz_nominalBlockLength, patch_Set, patch_Get, patch_property,
-      patch_value, time_Position, time_frame, time_speed, log_folder,
-      take_label, custom_offsets;
+      atom_URID, patch_Get, patch_property, log_folder, take_label,
+      custom_offsets;
+  host_time_uris time;
 } host_uris;
 
 static void map_host_uris(host_uris *uris, LV2_URID_Map *map) {
@@ -445,263 +414,38 @@ static void map_host_uris(host_uris *uris, LV2_URID_Map *map) {
   uris->atom_Path = get(NULL, LV2_ATOM__Path);
   uris->atom_String = get(NULL, LV2_ATOM__String);
   uris->atom_URID = get(NULL, LV2_ATOM__URID);
-  uris->param_sampleRate = get(NULL, LV2_PARAMETERS__sampleRate);
-  uris->bufsz_minBlockLength = get(NULL, LV2_BUF_SIZE__minBlockLength);
-  uris->bufsz_maxBlockLength = get(NULL, LV2_BUF_SIZE__maxBlockLength);
-  uris->bufsz_nominalBlockLength = get(NULL, LV2_BUF_SIZE__nominalBlockLength);
-  uris->patch_Set = get(NULL, LV2_PATCH__Set);
   uris->patch_Get = get(NULL, LV2_PATCH__Get);
   uris->patch_property = get(NULL, LV2_PATCH__property);
-  uris->patch_value = get(NULL, LV2_PATCH__value);
-  uris->time_Position = get(NULL, LV2_TIME__Position);
-  uris->time_frame = get(NULL, LV2_TIME__frame);
-  uris->time_speed = get(NULL, LV2_TIME__speed);
+  host_time_uris_map(&uris->time);
   uris->log_folder = get(NULL, LOG_FOLDER_URI);
   uris->take_label = get(NULL, TAKE_LABEL_URI);
   uris->custom_offsets = get(NULL, CUSTOM_OFFSETS_URI);
 }
 
-/* Everything one instance is given: features and the options behind
-   them (sample rate and block lengths, as a workstation gives). */
-typedef struct {
-  LV2_URID_Map map;
-  LV2_URID_Unmap unmap;
-  LV2_Log_Log log;
-  float sample_rate_hz;
-  int32_t min_block_frames, max_block_frames, nominal_block_frames;
-  LV2_Options_Option options[5];
-  LV2_Feature features[6];
-  const LV2_Feature *list[7];
-} host_features;
-
-static void set_option(LV2_Options_Option *option, LV2_URID key, LV2_URID type,
-                       uint32_t size, const void *value) {
-  *option =
-      (LV2_Options_Option){LV2_OPTIONS_INSTANCE, 0, key, size, type, value};
-}
-
-static void build_features(host_features *f, const host_uris *uris,
-                           uint32_t block_frames) {
-  memset(f, 0, sizeof *f);
-  f->map = (LV2_URID_Map){NULL, map_uri};
-  f->unmap = (LV2_URID_Unmap){NULL, unmap_uri};
-  f->log = (LV2_Log_Log){NULL, log_printf, log_vprintf};
-  f->sample_rate_hz = (float)SAMPLE_RATE_HZ;
-  f->min_block_frames = 1;
-  f->max_block_frames = MAX_BLOCK_FRAMES;
-  f->nominal_block_frames = (int32_t)block_frames;
-  set_option(&f->options[0], uris->param_sampleRate, uris->atom_Float,
-             sizeof(float), &f->sample_rate_hz);
-  set_option(&f->options[1], uris->bufsz_minBlockLength, uris->atom_Int,
-             sizeof(int32_t), &f->min_block_frames);
-  set_option(&f->options[2], uris->bufsz_maxBlockLength, uris->atom_Int,
-             sizeof(int32_t), &f->max_block_frames);
-  set_option(&f->options[3], uris->bufsz_nominalBlockLength, uris->atom_Int,
-             sizeof(int32_t), &f->nominal_block_frames);
-  /* options[4] stays zero: the terminator */
-  f->features[0] = (LV2_Feature){LV2_URID__map, &f->map};
-  f->features[1] = (LV2_Feature){LV2_URID__unmap, &f->unmap};
-  f->features[2] = (LV2_Feature){LV2_LOG__log, &f->log};
-  f->features[3] = (LV2_Feature){LV2_OPTIONS__options, f->options};
-  f->features[4] = (LV2_Feature){LV2_BUF_SIZE__boundedBlockLength, NULL};
-  for (int i = 0; i < 5; ++i) {
-    f->list[i] = &f->features[i];
-  }
-  f->list[5] = NULL;
-}
-
-/* work:schedule, for a host that has a worker. */
-static void add_schedule_feature(host_features *f,
-                                 LV2_Worker_Schedule *schedule) {
-  f->features[5] = (LV2_Feature){LV2_WORKER__schedule, schedule};
-  f->list[5] = &f->features[5];
-  f->list[6] = NULL;
+/* The host's features (plugin_host.c), with the counted map and unmap. */
+static void build_features(host_features *f, uint32_t block_frames) {
+  host_features_build(f, SAMPLE_RATE_HZ, block_frames);
+  f->map.map = map_uri;
+  f->unmap.unmap = unmap_uri;
 }
 
 /* ================================================== the host's worker */
 
-/* The hosts the plugin is driven in (see the top comment). */
-typedef enum {
-  HOST_NO_WORKER,
-  HOST_WORKER_THREAD,
-  HOST_SYNCHRONOUS_WORKER,
-  HOST_KINDS
-} host_kind;
-
-static const char *const host_kind_names[HOST_KINDS] = {
+/* The hosts the plugin is driven in (see the top comment), by the
+   worker of tests/plugin/worker_host.c. */
+static const char *const host_kind_names[HOST_WORKER_KINDS] = {
     "no-worker", "worker-thread", "synchronous-worker"};
 
-#define WORK_SLOTS 64
-#define WORK_MESSAGE_MAX_BYTES 64
+/* The freewheeling host's work() inside run() is the host's own
+   non-real-time business, so the counting pauses inside it. */
+static _Thread_local bool counting_before_work;
 
-typedef struct {
-  uint32_t size;
-  uint8_t data[WORK_MESSAGE_MAX_BYTES];
-} work_message;
-
-/* One producer and one consumer, lock-free: the producer may be run(),
-   which must not see the host take a lock either. */
-typedef struct {
-  work_message slots[WORK_SLOTS];
-  atomic_size_t written;
-  atomic_size_t taken;
-} message_ring;
-
-static bool ring_push(message_ring *ring, uint32_t size, const void *data) {
-  size_t written = atomic_load_explicit(&ring->written, memory_order_relaxed);
-  size_t taken = atomic_load_explicit(&ring->taken, memory_order_acquire);
-  if (written - taken == WORK_SLOTS || size > WORK_MESSAGE_MAX_BYTES) {
-    return false;
-  }
-  work_message *slot = &ring->slots[written % WORK_SLOTS];
-  slot->size = size;
-  memcpy(slot->data, data, size);
-  atomic_store_explicit(&ring->written, written + 1, memory_order_release);
-  return true;
-}
-
-static bool ring_pop(message_ring *ring, work_message *message) {
-  size_t taken = atomic_load_explicit(&ring->taken, memory_order_relaxed);
-  size_t written = atomic_load_explicit(&ring->written, memory_order_acquire);
-  if (taken == written) {
-    return false;
-  }
-  *message = ring->slots[taken % WORK_SLOTS];
-  atomic_store_explicit(&ring->taken, taken + 1, memory_order_release);
-  return true;
-}
-
-typedef struct {
-  host_kind kind;
-  const LV2_Worker_Interface *interface;
-  LV2_Handle instance; /* set once instantiated */
-  LV2_Worker_Schedule schedule;
-  message_ring requests;  /* run() to the worker thread */
-  message_ring responses; /* work() to the end of the next run() */
-  pthread_t thread;
-  bool thread_started;
-  atomic_bool stop;
-  pthread_t run_thread;             /* the test's thread, which calls run() */
-  atomic_ulong schedules;           /* schedule_work() calls taken */
-  atomic_ulong work_calls;          /* work() calls made */
-  atomic_ulong work_on_run_thread;  /* of those, made on run()'s thread */
-  atomic_ulong work_refused;        /* work() did not take the message */
-} host_worker;
-
-static LV2_Worker_Status respond(LV2_Worker_Respond_Handle handle,
-                                 uint32_t size, const void *data) {
-  host_worker *worker = handle;
-  return ring_push(&worker->responses, size, data) ? LV2_WORKER_SUCCESS
-                                                   : LV2_WORKER_ERR_NO_SPACE;
-}
-
-static void call_work(host_worker *worker, uint32_t size, const void *data) {
-  LV2_Worker_Status status =
-      worker->interface->work(worker->instance, respond, worker, size, data);
-  atomic_fetch_add(&worker->work_calls, 1ul);
-  if (pthread_equal(pthread_self(), worker->run_thread)) {
-    atomic_fetch_add(&worker->work_on_run_thread, 1ul);
-  }
-  if (status != LV2_WORKER_SUCCESS) {
-    atomic_fetch_add(&worker->work_refused, 1ul);
-  }
-}
-
-/* The live host: queue the message for the worker thread. */
-static LV2_Worker_Status schedule_on_thread(LV2_Worker_Schedule_Handle handle,
-                                            uint32_t size, const void *data) {
-  host_worker *worker = handle;
-  if (!ring_push(&worker->requests, size, data)) {
-    return LV2_WORKER_ERR_NO_SPACE;
-  }
-  atomic_fetch_add(&worker->schedules, 1ul); /* lock-free: no call counted */
-  return LV2_WORKER_SUCCESS;
-}
-
-/* The freewheeling host: work() at once, inside run(). What work() does
-   is the host's non-real-time business, so it is not counted. */
-static LV2_Worker_Status schedule_at_once(LV2_Worker_Schedule_Handle handle,
-                                          uint32_t size, const void *data) {
-  bool counting = inside_run;
-  inside_run = false;
-  atomic_fetch_add(&((host_worker *)handle)->schedules, 1ul);
-  call_work(handle, size, data);
-  inside_run = counting;
-  return LV2_WORKER_SUCCESS;
-}
-
-/* Polls, as a host's worker may; a message scheduled before `stop` is
-   still handed to work() (worker.h: the host "MUST guarantee that it
-   will be eventually passed to work()"). */
-static void *worker_main(void *argument) {
-  host_worker *worker = argument;
-  const struct timespec pause = {0, 200000L};
-  work_message message;
-  for (;;) {
-    bool stopping = atomic_load(&worker->stop);
-    bool any = false;
-    while (ring_pop(&worker->requests, &message)) {
-      call_work(worker, message.size, message.data);
-      any = true;
-    }
-    if (stopping && !any) {
-      return NULL;
-    }
-    nanosleep(&pause, NULL);
-  }
-}
-
-static void worker_init(host_worker *worker, host_kind kind,
-                        const LV2_Worker_Interface *interface) {
-  memset(worker, 0, sizeof *worker);
-  worker->kind = kind;
-  worker->interface = interface;
-  worker->run_thread = pthread_self();
-  worker->schedule.handle = worker;
-  worker->schedule.schedule_work =
-      kind == HOST_SYNCHRONOUS_WORKER ? schedule_at_once : schedule_on_thread;
-  atomic_init(&worker->stop, false);
-}
-
-static bool worker_start(host_worker *worker, LV2_Handle instance) {
-  worker->instance = instance;
-  if (worker->kind != HOST_WORKER_THREAD) {
-    return true;
-  }
-  worker->thread_started =
-      pthread_create(&worker->thread, NULL, worker_main, worker) == 0;
-  return worker->thread_started;
-}
-
-/* Hands every message still queued to work(), then joins. */
-static void worker_stop(host_worker *worker) {
-  if (worker->thread_started) {
-    atomic_store(&worker->stop, true);
-    pthread_join(worker->thread, NULL);
-    worker->thread_started = false;
-  }
-}
-
-/* Until every message scheduled so far has been through work(), for at
-   most 2 s (common practice, no source). */
-static void worker_wait_idle(host_worker *worker) {
-  const struct timespec pause = {0, 1000000L};
-  for (int tries = 0; tries < 2000 && atomic_load(&worker->work_calls) <
-                                          atomic_load(&worker->schedules);
-       ++tries) {
-    nanosleep(&pause, NULL);
-  }
-}
-
-/* After run(), in its context: the responses, then end_run (worker.h). */
-static void worker_end_of_run(host_worker *worker) {
-  work_message message;
-  while (ring_pop(&worker->responses, &message)) {
-    worker->interface->work_response(worker->instance, message.size,
-                                     message.data);
-  }
-  if (worker->interface->end_run) {
-    worker->interface->end_run(worker->instance);
+static void pause_counting(bool entering) {
+  if (entering) {
+    counting_before_work = inside_run;
+    inside_run = false;
+  } else {
+    inside_run = counting_before_work;
   }
 }
 
@@ -739,25 +483,10 @@ static size_t seconds_to_frames(double seconds) {
   return (size_t)lround(seconds * SAMPLE_RATE_HZ);
 }
 
-static sig_voice test_voice(void) {
-  sig_voice voice;
-  memset(&voice, 0, sizeof voice);
-  voice.timbre = (sig_timbre){8, SIG_AMPS_SAWTOOTH, NULL, 0.0, true, 11};
-  voice.envelope =
-      (sig_envelope){SIG_RAMP_LINEAR, 0.02, 0.10, -4.0, SIG_RAMP_EXP, 0.04};
-  voice.reference_hz = 440.0;
-  voice.amplitude = 0.2;
-  return voice;
-}
-
 static float *render_take(size_t *n) {
-  *n = seconds_to_frames(TAKE_S);
-  float *samples = calloc(*n, sizeof *samples);
-  sig_voice voice = test_voice();
-  if (!samples ||
-      sig_render_notes(&voice, take_notes, TAKE_NOTES, SAMPLE_RATE_HZ, samples,
-                       *n) != 0) {
-    free(samples);
+  float *samples =
+      host_take_render(take_notes, TAKE_NOTES, TAKE_S, SAMPLE_RATE_HZ, 11, n);
+  if (!samples) {
     return NULL;
   }
   for (size_t i = 0; i < BAD_SAMPLES; ++i) {
@@ -768,14 +497,11 @@ static float *render_take(size_t *n) {
 }
 
 static float *render_denormal_take(size_t *n) {
-  *n = seconds_to_frames(DENORMAL_TAKE_S);
-  float *samples = calloc(*n, sizeof *samples);
-  sig_voice voice = test_voice();
   const sig_note loud = {DENORMAL_NOTE_START_S, DENORMAL_NOTE_END_S, 64, 0.0,
                          0.0, 0.0, 0.0, LOUD_DB};
-  if (!samples ||
-      sig_render_notes(&voice, &loud, 1, SAMPLE_RATE_HZ, samples, *n) != 0) {
-    free(samples);
+  float *samples =
+      host_take_render(&loud, 1, DENORMAL_TAKE_S, SAMPLE_RATE_HZ, 11, n);
+  if (!samples) {
     return NULL;
   }
   for (size_t i = seconds_to_frames(DENORMAL_TAIL_START_S); i < *n; ++i) {
@@ -867,47 +593,46 @@ static void plan_take(take_plan *plan, const char *folder, const char *label,
 static const float custom_offsets_cents[12] = {0, -2, 4, 0, -14, 2, -10,
                                                2, 0, -16, 4, -12};
 
-static bool forge_set_value(LV2_Atom_Forge *forge, const host_uris *uris,
-                            const take_plan *plan, event_kind kind) {
+/* A patch:Set at `offset` in the block, value and all. */
+static bool forge_set(host_instance *host, int64_t offset, const host_uris *uris,
+                      const take_plan *plan, event_kind kind,
+                      LV2_Atom_Forge_Frame *object) {
+  LV2_Atom_Forge *forge = &host->forge;
   switch (kind) {
   case EVENT_SET_FOLDER:
-    return lv2_atom_forge_key(forge, uris->patch_property) &&
-           lv2_atom_forge_urid(forge, uris->log_folder) &&
-           lv2_atom_forge_key(forge, uris->patch_value) &&
+    return host_patch_set_begin(host, offset, object, uris->log_folder) &&
            lv2_atom_forge_path(forge, plan->folder,
                                (uint32_t)strlen(plan->folder));
   case EVENT_SET_LABEL:
-    return lv2_atom_forge_key(forge, uris->patch_property) &&
-           lv2_atom_forge_urid(forge, uris->take_label) &&
-           lv2_atom_forge_key(forge, uris->patch_value) &&
+    return host_patch_set_begin(host, offset, object, uris->take_label) &&
            lv2_atom_forge_string(forge, plan->label,
                                  (uint32_t)strlen(plan->label));
   default:
-    return lv2_atom_forge_key(forge, uris->patch_property) &&
-           lv2_atom_forge_urid(forge, uris->custom_offsets) &&
-           lv2_atom_forge_key(forge, uris->patch_value) &&
+    return host_patch_set_begin(host, offset, object, uris->custom_offsets) &&
            lv2_atom_forge_vector(forge, sizeof(float), uris->atom_Float, 12,
                                  custom_offsets_cents);
   }
 }
 
-static bool forge_event(LV2_Atom_Forge *forge, const host_uris *uris,
+static bool forge_event(host_instance *host, int64_t offset, const host_uris *uris,
                         const take_plan *plan, const take_event *event) {
+  LV2_Atom_Forge *forge = &host->forge;
   LV2_Atom_Forge_Frame object;
   bool fits;
   if (event->kind == EVENT_POSITION) {
-    fits = lv2_atom_forge_object(forge, &object, 0, uris->time_Position) &&
-           lv2_atom_forge_key(forge, uris->time_frame) &&
+    fits = lv2_atom_forge_frame_time(forge, offset) &&
+           lv2_atom_forge_object(forge, &object, 0, uris->time.Position) &&
+           lv2_atom_forge_key(forge, uris->time.frame) &&
            lv2_atom_forge_long(forge, event->transport_frame) &&
-           lv2_atom_forge_key(forge, uris->time_speed) &&
+           lv2_atom_forge_key(forge, uris->time.speed) &&
            lv2_atom_forge_float(forge, event->speed);
   } else if (event->kind == EVENT_GET_LABEL) {
-    fits = lv2_atom_forge_object(forge, &object, 0, uris->patch_Get) &&
+    fits = lv2_atom_forge_frame_time(forge, offset) &&
+           lv2_atom_forge_object(forge, &object, 0, uris->patch_Get) &&
            lv2_atom_forge_key(forge, uris->patch_property) &&
            lv2_atom_forge_urid(forge, uris->take_label);
   } else {
-    fits = lv2_atom_forge_object(forge, &object, 0, uris->patch_Set) &&
-           forge_set_value(forge, uris, plan, event->kind);
+    fits = forge_set(host, offset, uris, plan, event->kind, &object);
   }
   if (fits) {
     lv2_atom_forge_pop(forge, &object);
@@ -916,24 +641,6 @@ static bool forge_event(LV2_Atom_Forge *forge, const host_uris *uris,
 }
 
 /* ================================================== driving the plugin */
-
-typedef union {
-  LV2_Atom_Sequence sequence;
-  uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
-  uint8_t bytes[ATOM_BUFFER_BYTES];
-} atom_buffer;
-
-typedef struct {
-  const LV2_Descriptor *descriptor;
-  LV2_Handle instance;
-  float in[MAX_BLOCK_FRAMES];
-  float out[MAX_BLOCK_FRAMES];
-  float controls[PORT_COUNT];
-  atom_buffer control;
-  atom_buffer notify;
-  LV2_Atom_Forge forge; /* writes the control sequence, outside run() */
-  host_worker worker;   /* used when the host kind has one */
-} plugin_host;
 
 typedef struct {
   size_t runs;
@@ -954,76 +661,46 @@ typedef struct {
 
 /* The suite's shared state, made by the group setup. */
 static struct {
-  const LV2_Descriptor *descriptor;
-  const LV2_Worker_Interface *worker_interface;
-  void *library;
-  char bundle[PATH_MAX];
+  host_plugin plugin;
   char folder[PATH_MAX];
   host_uris uris;
   float *take;
   size_t take_frames;
   float *denormal_take;
   size_t denormal_frames;
-  char *logs[HOST_KINDS][5]; /* each host's and block size's notes.csv */
+  char *logs[HOST_WORKER_KINDS][5]; /* each host's and block size's notes.csv */
 } suite;
 
 static size_t block_sizes[5] = {1, 7, 64, 1000, 4096};
 
-/* The defaults of ttl/plumb.ttl, so that run() sees real values. */
-static void set_control_defaults(float controls[PORT_COUNT]) {
-  controls[PORT_REFERENCE] = 440.0f;
-  controls[PORT_TOLERANCE] = 10.0f;
-  controls[PORT_TEMPERAMENT] = 0.0f;
-  controls[PORT_TONIC] = 0.0f;
-  controls[PORT_LOWEST] = 28.0f;
-  controls[PORT_HIGHEST] = 96.0f;
-  controls[PORT_MIN_NOTE] = 80.0f;
-  controls[PORT_LOGGING] = 1.0f;
-}
-
 /* connect_port is of the audio threading class too, so it is counted. */
-static void connect_every_port(plugin_host *host) {
-  LV2_Handle instance = host->instance;
+static void connect_every_port(host_instance *host) {
   inside_run = true;
-  host->descriptor->connect_port(instance, PORT_IN, host->in);
-  host->descriptor->connect_port(instance, PORT_OUT, host->out);
-  host->descriptor->connect_port(instance, PORT_CONTROL, &host->control);
-  host->descriptor->connect_port(instance, PORT_NOTIFY, &host->notify);
-  for (uint32_t port = PORT_NOTIFY + 1; port < PORT_COUNT; ++port) {
-    host->descriptor->connect_port(instance, port, &host->controls[port]);
-  }
+  host_instance_connect(host);
   inside_run = false;
 }
 
-static bool write_control(plugin_host *host, const take_plan *plan,
+static bool write_control(host_instance *host, const take_plan *plan,
                           size_t begin, size_t frames) {
-  LV2_Atom_Forge *forge = &host->forge;
-  LV2_Atom_Forge_Frame sequence;
-  lv2_atom_forge_set_buffer(forge, host->control.bytes, sizeof host->control);
-  bool fits = lv2_atom_forge_sequence_head(forge, &sequence, 0) != 0;
+  bool fits = host_control_begin(host);
   for (size_t i = 0; i < plan->count && fits; ++i) {
     const take_event *event = &plan->events[i];
     if (event->frame >= begin && event->frame < begin + frames) {
       int64_t offset = (int64_t)(event->frame - begin);
-      fits = lv2_atom_forge_frame_time(forge, offset) &&
-             forge_event(forge, &suite.uris, plan, event);
+      fits = forge_event(host, offset, &suite.uris, plan, event);
     }
   }
   if (fits) {
-    lv2_atom_forge_pop(forge, &sequence);
+    host_control_end(host);
   }
   return fits;
 }
 
-/* As lilv and jalv do: an empty Chunk whose size is the space there is. */
-static void reset_notify(plugin_host *host) {
-  host->notify.sequence.atom.type = suite.uris.atom_Chunk;
-  host->notify.sequence.atom.size = ATOM_BUFFER_BYTES - sizeof(LV2_Atom);
-}
-
-static size_t count_notify_events(const plugin_host *host, bool *overflow) {
+/* host_block_in() offers notify as lilv and jalv do: an empty Chunk
+   whose size is the space there is. */
+static size_t count_notify_events(const host_instance *host, bool *overflow) {
   const LV2_Atom_Sequence *sequence = &host->notify.sequence;
-  *overflow = sequence->atom.size > ATOM_BUFFER_BYTES - sizeof(LV2_Atom);
+  *overflow = sequence->atom.size > host->notify_space_bytes;
   if (*overflow || sequence->atom.type == suite.uris.atom_Chunk) {
     return 0;
   }
@@ -1048,24 +725,20 @@ static double monotonic_s(void) {
 
 /* One run() of `frames` frames from take[begin]; everything the host
    prepares happens before the flag is set, every check after. */
-static void run_block(plugin_host *host, const take_plan *plan,
+static void run_block(host_instance *host, const take_plan *plan,
                       const float *take, size_t begin, size_t frames,
                       take_result *result) {
-  memcpy(host->in, take + begin, frames * sizeof(float));
+  host_block_in(host, take + begin, (uint32_t)frames);
   memset(host->out, 0x5a, sizeof host->out); /* not a copy of anything */
   if (plan->tolerance_change_frame != NO_FRAME &&
       begin >= plan->tolerance_change_frame) {
     host->controls[PORT_TOLERANCE] = 15.0f;
   }
   result->runs_control_overflow += !write_control(host, plan, begin, frames);
-  reset_notify(host);
   unsigned int mxcsr_before = read_mxcsr();
   double start_s = result->run_seconds ? monotonic_s() : 0.0;
   inside_run = true;
-  host->descriptor->run(host->instance, (uint32_t)frames);
-  if (host->worker.kind != HOST_NO_WORKER) {
-    worker_end_of_run(&host->worker); /* audio class too: counted */
-  }
+  host_block_run(host, (uint32_t)frames); /* the worker's end of run too */
   inside_run = false;
   if (result->run_seconds) {
     result->run_seconds[result->runs] = monotonic_s() - start_s;
@@ -1085,9 +758,9 @@ static size_t count_rows(const char *text);
 /* The rows of the take's log once the writer has caught up: at once for
    a synchronous worker, after the worker thread is idle, or within 2 s
    for the plugin's own thread (it writes every 20 ms). */
-static size_t rows_written_so_far(plugin_host *host, const char *label,
+static size_t rows_written_so_far(host_instance *host, const char *label,
                                   size_t wanted) {
-  worker_wait_idle(&host->worker);
+  host_worker_wait_idle(&host->worker);
   const struct timespec pause = {0, 5000000L};
   size_t rows = 0;
   for (int tries = 0; tries < 400; ++tries) {
@@ -1114,34 +787,20 @@ static void copy_worker_counts(const host_worker *worker,
    still running), stop the worker, cleanup. Counts only inside run()
    and connect_port(). Returns false when the plugin would not
    instantiate. */
-static bool drive_take_in(host_kind kind, const float *take, size_t n,
+static bool drive_take_in(host_worker_kind kind, const float *take, size_t n,
                           size_t block_frames, const take_plan *plan,
                           take_result *result) {
-  plugin_host *host = calloc(1, sizeof *host);
   host_features features;
+  build_features(&features, (uint32_t)block_frames);
+  host_instance *host = host_instance_instantiate(&suite.plugin, &features,
+                                                  SAMPLE_RATE_HZ, true, kind);
   if (!host) {
     return false;
   }
-  build_features(&features, &suite.uris, (uint32_t)block_frames);
-  worker_init(&host->worker, kind, suite.worker_interface);
-  if (kind != HOST_NO_WORKER) {
-    add_schedule_feature(&features, &host->worker.schedule);
-  }
-  host->descriptor = suite.descriptor;
-  host->instance = suite.descriptor->instantiate(
-      suite.descriptor, SAMPLE_RATE_HZ, suite.bundle, features.list);
-  if (!host->instance || !worker_start(&host->worker, host->instance)) {
-    if (host->instance) {
-      suite.descriptor->cleanup(host->instance);
-    }
-    free(host);
-    return false;
-  }
-  lv2_atom_forge_init(&host->forge, &features.map);
-  set_control_defaults(host->controls);
+  host->worker.around_synchronous_work = pause_counting;
   counting_reset();
   connect_every_port(host);
-  suite.descriptor->activate(host->instance);
+  host->descriptor->activate(host->instance);
   for (size_t begin = 0; begin < n; begin += block_frames) {
     size_t frames = n - begin < block_frames ? n - begin : block_frames;
     run_block(host, plan, take, begin, frames, result);
@@ -1150,11 +809,10 @@ static bool drive_take_in(host_kind kind, const float *take, size_t n,
     result->rows_before_deactivate =
         rows_written_so_far(host, plan->label, plan->rows_wanted);
   }
-  suite.descriptor->deactivate(host->instance);
-  worker_stop(&host->worker);
+  host->descriptor->deactivate(host->instance);
+  host_worker_stop(&host->worker);
   copy_worker_counts(&host->worker, result);
-  suite.descriptor->cleanup(host->instance);
-  free(host);
+  host_instance_close(host);
   return true;
 }
 
@@ -1266,6 +924,21 @@ static void test_interposer_counts_direct_calls(void **state) {
   assert_int_equal(counting_total(), 2);
 }
 
+/* instantiate() and cleanup() with `features`, every call counted as if
+   inside run(). Returns whether the plugin instantiated. */
+static bool instantiate_counted(const host_features *features) {
+  const LV2_Descriptor *descriptor = suite.plugin.descriptor;
+  counting_reset();
+  inside_run = true;
+  LV2_Handle instance = descriptor->instantiate(
+      descriptor, SAMPLE_RATE_HZ, suite.plugin.bundle, features->list);
+  if (instance) {
+    descriptor->cleanup(instance);
+  }
+  inside_run = false;
+  return instance != NULL;
+}
+
 /* Calls from shared objects reach the interposer too: the executable's
    malloc is the one the dynamic linker hands out, and the plugin's own
    instantiate (which allocates and starts the log writer thread, as
@@ -1276,16 +949,8 @@ static void test_interposer_sees_the_plugins_calls(void **state) {
   assert_ptr_equal(dlsym(RTLD_DEFAULT, "pthread_mutex_lock"),
                    (void *)pthread_mutex_lock);
   host_features features;
-  build_features(&features, &suite.uris, 64);
-  counting_reset();
-  inside_run = true;
-  LV2_Handle instance = suite.descriptor->instantiate(
-      suite.descriptor, SAMPLE_RATE_HZ, suite.bundle, features.list);
-  if (instance) {
-    suite.descriptor->cleanup(instance);
-  }
-  inside_run = false;
-  assert_non_null(instance);
+  build_features(&features, 64);
+  assert_true(instantiate_counted(&features)); /* it instantiated */
   unsigned long allocations = forbidden_counts[CALL_malloc] +
                               forbidden_counts[CALL_calloc] +
                               forbidden_counts[CALL_posix_memalign] +
@@ -1304,19 +969,11 @@ static void test_interposer_sees_the_plugins_calls(void **state) {
 static void test_no_own_thread_with_a_host_worker(void **state) {
   (void)state;
   host_features features;
-  build_features(&features, &suite.uris, 64);
+  build_features(&features, 64);
   host_worker worker;
-  worker_init(&worker, HOST_WORKER_THREAD, suite.worker_interface);
-  add_schedule_feature(&features, &worker.schedule);
-  counting_reset();
-  inside_run = true;
-  LV2_Handle instance = suite.descriptor->instantiate(
-      suite.descriptor, SAMPLE_RATE_HZ, suite.bundle, features.list);
-  if (instance) {
-    suite.descriptor->cleanup(instance);
-  }
-  inside_run = false;
-  assert_non_null(instance);
+  host_worker_init(&worker, HOST_WORKER_THREAD, suite.plugin.worker_interface);
+  host_features_add(&features, LV2_WORKER__schedule, &worker.schedule);
+  assert_true(instantiate_counted(&features)); /* it instantiated */
   assert_true(forbidden_counts[CALL_malloc] + forbidden_counts[CALL_calloc] >=
               1);
   assert_int_equal(forbidden_counts[CALL_pthread_create], 0);
@@ -1327,14 +984,14 @@ static void test_no_own_thread_with_a_host_worker(void **state) {
 
 /* One test for each host and block size. */
 typedef struct {
-  host_kind kind;
+  host_worker_kind kind;
   size_t block_frames;
   size_t slot; /* in block_sizes */
 } host_case;
 
 #define HOST_CASES(kind)                                                      \
   {kind, 1, 0}, {kind, 7, 1}, {kind, 64, 2}, {kind, 1000, 3}, {kind, 4096, 4}
-static host_case host_cases[HOST_KINDS * 5] = {
+static host_case host_cases[HOST_WORKER_KINDS * 5] = {
     HOST_CASES(HOST_NO_WORKER), HOST_CASES(HOST_WORKER_THREAD),
     HOST_CASES(HOST_SYNCHRONOUS_WORKER)};
 
@@ -1343,7 +1000,7 @@ static host_case host_cases[HOST_KINDS * 5] = {
    docs/ports.md: with work:schedule the log is written from the host's
    worker, without it from the plugin's own thread, so a host without a
    worker never sees work() called. */
-static void assert_worker_use(host_kind kind, const take_result *result) {
+static void assert_worker_use(host_worker_kind kind, const take_result *result) {
   assert_int_equal(result->work_refused, 0);
   switch (kind) {
   case HOST_NO_WORKER:
@@ -1404,7 +1061,7 @@ static void test_plugin_run_is_real_time_safe(void **state) {
   suite.logs[c->kind][c->slot] = log;
 }
 
-/* core/plumb.h: results do not depend on how the audio is split, and the
+/* core/include/plumb.h: results do not depend on how the audio is split, and the
    plugin feeds the analysis up to each event's frame (docs/ports.md), so
    with the same events at the same take frames every block size must
    give the same log, byte for byte; and who writes it (the host's
@@ -1413,7 +1070,7 @@ static void test_plugin_run_is_real_time_safe(void **state) {
 static void test_plugin_logs_equal_for_every_block_size(void **state) {
   (void)state;
   const char *reference = suite.logs[HOST_NO_WORKER][4];
-  for (int kind = 0; kind < HOST_KINDS; ++kind) {
+  for (int kind = 0; kind < HOST_WORKER_KINDS; ++kind) {
     for (size_t i = 0; i < 5; ++i) {
       const char *log = suite.logs[kind][i];
       if (!log) {
@@ -1432,7 +1089,7 @@ static void test_plugin_logs_equal_for_every_block_size(void **state) {
 
 /* ================================================== tests: the core */
 
-/* Every [RT] call of core/plumb.h, on the take, in blocks of one size:
+/* Every [RT] call of core/include/plumb.h, on the take, in blocks of one size:
    reset, process, live readings, counts, popping notes, a timeline mark,
    a change of settings mid-take, finish. */
 static void test_core_calls_are_real_time_safe(void **state) {
@@ -1481,7 +1138,7 @@ static void test_core_calls_are_real_time_safe(void **state) {
   assert_no_forbidden_calls(where);
   /* The calls did their work: every note of the take came out of the
      queue (the truth is take_notes[]), none was dropped, and the NaN and
-     Inf samples were counted (core/plumb.h, plumb_process). */
+     Inf samples were counted (core/include/plumb.h, plumb_process). */
   assert_int_equal(popped, counts.notes);
   assert_int_equal(counts.notes, TAKE_NOTES);
   assert_int_equal(counts.dropped, 0);
@@ -1574,57 +1231,14 @@ static void test_denormal_silence_passes_and_is_timed(void **state) {
 /* ================================================== setup */
 
 /* build/tests/test_realtime -> build/plumb.lv2/ */
-static int find_bundle(char *bundle, size_t size) {
-  char executable[PATH_MAX];
-  ssize_t length =
-      readlink("/proc/self/exe", executable, sizeof executable - 1);
-  if (length <= 0) {
-    return -1;
-  }
-  executable[length] = '\0';
-  char *slash = strrchr(executable, '/');
-  if (!slash) {
-    return -1;
-  }
-  *slash = '\0';
-  int written = snprintf(bundle, size, "%s/../plumb.lv2/", executable);
-  return written > 0 && (size_t)written < size ? 0 : -1;
-}
-
-static const LV2_Descriptor *find_descriptor(void *library) {
-  LV2_Descriptor_Function get =
-      (LV2_Descriptor_Function)dlsym(library, "lv2_descriptor");
-  for (uint32_t index = 0; get && get(index); ++index) {
-    if (strcmp(get(index)->URI, PLUGIN_URI) == 0) {
-      return get(index);
-    }
-  }
-  return NULL;
-}
-
 static int load_plugin(void) {
-  char binary[PATH_MAX + 16];
-  if (find_bundle(suite.bundle, sizeof suite.bundle) != 0) {
-    fprintf(stderr, "cannot find the bundle beside /proc/self/exe\n");
-    return -1;
-  }
-  snprintf(binary, sizeof binary, "%splumb.so", suite.bundle);
-  suite.library = dlopen(binary, RTLD_NOW | RTLD_LOCAL);
-  if (!suite.library) {
-    fprintf(stderr, "cannot load %s: %s (run make all)\n", binary, dlerror());
-    return -1;
-  }
-  suite.descriptor = find_descriptor(suite.library);
-  if (!suite.descriptor) {
-    fprintf(stderr, "%s has no descriptor for %s\n", binary, PLUGIN_URI);
+  if (host_plugin_load(&suite.plugin) != 0) {
     return -1;
   }
   /* ttl/plumb.ttl declares lv2:extensionData work:interface */
-  suite.worker_interface =
-      suite.descriptor->extension_data(LV2_WORKER__interface);
-  if (!suite.worker_interface || !suite.worker_interface->work ||
-      !suite.worker_interface->work_response) {
-    fprintf(stderr, "%s has no work:interface\n", binary);
+  const LV2_Worker_Interface *worker = suite.plugin.worker_interface;
+  if (!worker || !worker->work || !worker->work_response) {
+    fprintf(stderr, "%splumb.so has no work:interface\n", suite.plugin.bundle);
     return -1;
   }
   return 0;
@@ -1634,11 +1248,7 @@ static int setup_suite(void **state) {
   (void)state;
   LV2_URID_Map map = {NULL, map_uri};
   map_host_uris(&suite.uris, &map);
-  const char *tmp = getenv("TMPDIR");
-  snprintf(suite.folder, sizeof suite.folder, "%s/plumb-realtime.XXXXXX",
-           tmp && tmp[0] ? tmp : "/tmp");
-  if (!mkdtemp(suite.folder)) {
-    perror("mkdtemp");
+  if (host_folder_make(suite.folder, sizeof suite.folder, "plumb-realtime") != 0) {
     return -1;
   }
   suite.take = render_take(&suite.take_frames);
@@ -1650,26 +1260,9 @@ static int setup_suite(void **state) {
   return load_plugin();
 }
 
-/* The log folder holds only files the plugin wrote. */
-static void remove_folder(const char *folder) {
-  DIR *directory = opendir(folder);
-  if (!directory) {
-    return;
-  }
-  char path[PATH_MAX + 256];
-  for (struct dirent *entry; (entry = readdir(directory)) != NULL;) {
-    if (strcmp(entry->d_name, ".") != 0 && strcmp(entry->d_name, "..") != 0) {
-      snprintf(path, sizeof path, "%s/%s", folder, entry->d_name);
-      unlink(path);
-    }
-  }
-  closedir(directory);
-  rmdir(folder);
-}
-
 static int teardown_suite(void **state) {
   (void)state;
-  for (int kind = 0; kind < HOST_KINDS; ++kind) {
+  for (int kind = 0; kind < HOST_WORKER_KINDS; ++kind) {
     for (size_t i = 0; i < 5; ++i) {
       free(suite.logs[kind][i]);
     }
@@ -1677,11 +1270,9 @@ static int teardown_suite(void **state) {
   free(suite.take);
   free(suite.denormal_take);
   if (suite.folder[0]) {
-    remove_folder(suite.folder);
+    host_folder_remove(suite.folder);
   }
-  if (suite.library) {
-    dlclose(suite.library);
-  }
+  host_plugin_unload(&suite.plugin);
   return 0;
 }
 

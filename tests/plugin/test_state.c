@@ -3,7 +3,7 @@
   the session folder from state:makePath (docs/ports.md, "State").
 
   This executable hosts build/plumb.lv2/plumb.so as an LV2 host would
-  (urid:map and unmap, log:log), sets the parameters by patch:Set in
+  (tests/plugin/plugin_host.c), sets the parameters by patch:Set in
   run(), saves them into an in-memory store through a state:mapPath that
   makes paths relative to a "session" folder, restores them into a fresh
   instance and checks that its take is logged where and as the restored
@@ -11,26 +11,15 @@
   of the plugin's own, never from instantiate() or run(); with a host
   that has a worker (work:schedule), only from that worker's thread.
 */
-#include "urid_table.h"
-#include "ports.h"
+#include "folder_host.h"
+#include "plugin_host.h"
 
-#include <lv2/atom/atom.h>
-#include <lv2/atom/forge.h>
-#include <lv2/core/lv2.h>
-#include <lv2/log/log.h>
-#include <lv2/patch/patch.h>
 #include <lv2/state/state.h>
-#include <lv2/urid/urid.h>
-#include <lv2/worker/worker.h>
 
 #include <dirent.h>
-#include <dlfcn.h>
-#include <ftw.h>
 #include <limits.h>
 #include <math.h>
 #include <pthread.h>
-#include <stdarg.h>
-#include <stdatomic.h>
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
@@ -47,9 +36,6 @@
 #define SAMPLE_RATE_HZ 48000.0
 #define BLOCK_FRAMES 512
 #define BLOCKS 40
-#define CONTROL_BYTES 16384
-#define NOTIFY_BYTES 4096
-#define PLUGIN_URI "urn:plumb:intonation"
 #define LOG_FOLDER_URI "urn:plumb:logFolder"
 #define TAKE_LABEL_URI "urn:plumb:takeLabel"
 #define CUSTOM_OFFSETS_URI "urn:plumb:customOffsets"
@@ -66,52 +52,21 @@ static const char offsets_json[] =
 
 /* ================================================== URIDs */
 
-/* The shared table: tests/urid_table.c. */
-#define map_uri urid_table_map
-#define unmap_uri urid_table_unmap
-
 static struct {
   LV2_URID atom_Path, atom_String, atom_Float, atom_Int, atom_Vector;
-  LV2_URID patch_Set, patch_property, patch_value;
   LV2_URID log_folder, take_label, custom_offsets;
 } uris;
 
-static LV2_URID_Map map = {NULL, map_uri};
-static LV2_URID_Unmap unmap = {NULL, unmap_uri};
-
 static void map_uris(void) {
-  uris.atom_Path = map_uri(NULL, LV2_ATOM__Path);
-  uris.atom_String = map_uri(NULL, LV2_ATOM__String);
-  uris.atom_Float = map_uri(NULL, LV2_ATOM__Float);
-  uris.atom_Int = map_uri(NULL, LV2_ATOM__Int);
-  uris.atom_Vector = map_uri(NULL, LV2_ATOM__Vector);
-  uris.patch_Set = map_uri(NULL, LV2_PATCH__Set);
-  uris.patch_property = map_uri(NULL, LV2_PATCH__property);
-  uris.patch_value = map_uri(NULL, LV2_PATCH__value);
-  uris.log_folder = map_uri(NULL, LOG_FOLDER_URI);
-  uris.take_label = map_uri(NULL, TAKE_LABEL_URI);
-  uris.custom_offsets = map_uri(NULL, CUSTOM_OFFSETS_URI);
+  uris.atom_Path = host_map(LV2_ATOM__Path);
+  uris.atom_String = host_map(LV2_ATOM__String);
+  uris.atom_Float = host_map(LV2_ATOM__Float);
+  uris.atom_Int = host_map(LV2_ATOM__Int);
+  uris.atom_Vector = host_map(LV2_ATOM__Vector);
+  uris.log_folder = host_map(LOG_FOLDER_URI);
+  uris.take_label = host_map(TAKE_LABEL_URI);
+  uris.custom_offsets = host_map(CUSTOM_OFFSETS_URI);
 }
-
-/* ================================================== host features */
-
-static int log_vprintf(LV2_Log_Handle handle, LV2_URID type, const char *format,
-                       va_list arguments) {
-  (void)handle;
-  (void)type;
-  return vfprintf(stderr, format, arguments);
-}
-
-static int log_printf(LV2_Log_Handle handle, LV2_URID type, const char *format,
-                      ...) {
-  va_list arguments;
-  va_start(arguments, format);
-  int written = log_vprintf(handle, type, format, arguments);
-  va_end(arguments);
-  return written;
-}
-
-static LV2_Log_Log host_log = {NULL, log_printf, log_vprintf};
 
 /* The temporary folders of one test: ROOT/session and ROOT/env. */
 static struct {
@@ -194,91 +149,6 @@ static int make_calls_now(void) {
   return calls;
 }
 
-/* ------------------------------------------------ work:schedule */
-
-/* A host's worker: one thread that hands each scheduled message to the
-   plugin's work() (LV2 Worker extension). One message waits at a time
-   (the plugin schedules no more); run() only stores it, lock-free. */
-static struct {
-  const LV2_Worker_Interface *interface;
-  LV2_Handle instance;
-  pthread_t thread;
-  atomic_bool stop;
-  atomic_bool waiting; /* a message is there */
-  uint32_t size;
-  uint8_t message[64];
-  atomic_ulong scheduled, worked;
-} worker;
-
-static LV2_Worker_Status no_response(LV2_Worker_Respond_Handle handle,
-                                     uint32_t size, const void *data) {
-  (void)handle;
-  (void)size;
-  (void)data;
-  return LV2_WORKER_ERR_NO_SPACE; /* the plugin sends none */
-}
-
-static LV2_Worker_Status schedule_work(LV2_Worker_Schedule_Handle handle,
-                                       uint32_t size, const void *data) {
-  (void)handle;
-  if (atomic_load(&worker.waiting) || size > sizeof worker.message) {
-    return LV2_WORKER_ERR_NO_SPACE;
-  }
-  memcpy(worker.message, data, size);
-  worker.size = size;
-  atomic_fetch_add(&worker.scheduled, 1ul);
-  atomic_store(&worker.waiting, true);
-  return LV2_WORKER_SUCCESS;
-}
-
-static void *worker_main(void *argument) {
-  (void)argument;
-  const struct timespec pause = {0, 500000L};
-  while (!atomic_load(&worker.stop) || atomic_load(&worker.waiting)) {
-    if (atomic_load(&worker.waiting)) {
-      uint8_t message[sizeof worker.message];
-      uint32_t size = worker.size;
-      memcpy(message, worker.message, size);
-      atomic_store(&worker.waiting, false);
-      worker.interface->work(worker.instance, no_response, NULL, size,
-                             message);
-      atomic_fetch_add(&worker.worked, 1ul);
-    }
-    nanosleep(&pause, NULL);
-  }
-  return NULL;
-}
-
-static LV2_Worker_Schedule schedule_feature = {NULL, schedule_work};
-
-/* The features a host gives; with_make_path adds state:makePath,
-   with_worker work:schedule. */
-typedef struct {
-  LV2_Feature features[5];
-  const LV2_Feature *list[6];
-} host_features;
-
-static const LV2_Feature *const *build_features(host_features *f,
-                                                bool with_make_path,
-                                                bool with_worker) {
-  int count = 0;
-  f->features[count++] = (LV2_Feature){LV2_URID__map, &map};
-  f->features[count++] = (LV2_Feature){LV2_URID__unmap, &unmap};
-  f->features[count++] = (LV2_Feature){LV2_LOG__log, &host_log};
-  if (with_make_path) {
-    f->features[count++] =
-        (LV2_Feature){LV2_STATE__makePath, &make_path_feature};
-  }
-  if (with_worker) {
-    f->features[count++] = (LV2_Feature){LV2_WORKER__schedule, &schedule_feature};
-  }
-  for (int i = 0; i < count; ++i) {
-    f->list[i] = &f->features[i];
-  }
-  f->list[count] = NULL;
-  return f->list;
-}
-
 static const LV2_Feature map_path_entry = {LV2_STATE__mapPath, &map_path};
 static const LV2_Feature *const with_map_path[] = {&map_path_entry, NULL};
 
@@ -344,117 +214,48 @@ static void free_store(store *s) {
 /* ================================================== the plugin */
 
 static struct {
-  void *library;
-  const LV2_Descriptor *descriptor;
+  host_plugin plugin;
   const LV2_State_Interface *state;
   pthread_t main_thread;
+  host_features features;           /* what every host here gives */
+  host_features features_make_path; /* and state:makePath */
 } suite;
 
-typedef struct {
-  LV2_Handle instance;
-  float in[BLOCK_FRAMES];
-  float out[BLOCK_FRAMES];
-  float controls[PORT_COUNT];
-  union {
-    LV2_Atom_Sequence sequence;
-    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
-    uint8_t bytes[CONTROL_BYTES];
-  } control;
-  union {
-    LV2_Atom_Sequence sequence;
-    uint64_t aligned; /* "Atoms MUST be 64-bit aligned" (atom.meta.ttl) */
-    uint8_t bytes[NOTIFY_BYTES];
-  } notify;
-} plugin_host;
-
-static void set_control_defaults(float controls[PORT_COUNT], bool logging) {
-  controls[PORT_REFERENCE] = 440.0f;
-  controls[PORT_TOLERANCE] = 10.0f;
-  controls[PORT_TEMPERAMENT] = 0.0f;
-  controls[PORT_TONIC] = 0.0f;
-  controls[PORT_LOWEST] = 28.0f;
-  controls[PORT_HIGHEST] = 96.0f;
-  controls[PORT_MIN_NOTE] = 80.0f;
-  controls[PORT_LOGGING] = logging ? 1.0f : 0.0f;
-}
-
-static plugin_host *open_host_with(bool with_make_path, bool with_worker,
-                                   bool logging) {
-  plugin_host *host = calloc(1, sizeof *host);
+static host_instance *open_host_with(bool with_make_path, host_worker_kind worker,
+                                     bool logging) {
+  host_features *f = with_make_path ? &suite.features_make_path : &suite.features;
+  host_instance *host =
+      host_instance_open(&suite.plugin, f, SAMPLE_RATE_HZ, logging, worker);
   assert_non_null(host);
-  host_features f;
-  host->instance = suite.descriptor->instantiate(
-      suite.descriptor, SAMPLE_RATE_HZ, "",
-      build_features(&f, with_make_path, with_worker));
-  assert_non_null(host->instance);
-  set_control_defaults(host->controls, logging);
-  const LV2_Descriptor *d = suite.descriptor;
-  d->connect_port(host->instance, PORT_IN, host->in);
-  d->connect_port(host->instance, PORT_OUT, host->out);
-  d->connect_port(host->instance, PORT_CONTROL, &host->control);
-  d->connect_port(host->instance, PORT_NOTIFY, &host->notify);
-  for (uint32_t port = PORT_NOTIFY + 1; port < PORT_COUNT; ++port) {
-    d->connect_port(host->instance, port, &host->controls[port]);
-  }
   return host;
 }
 
-static plugin_host *open_host(bool with_make_path, bool logging) {
-  return open_host_with(with_make_path, false, logging);
+static host_instance *open_host(bool with_make_path, bool logging) {
+  return open_host_with(with_make_path, HOST_NO_WORKER, logging);
 }
 
-static void close_host(plugin_host *host) {
-  suite.descriptor->cleanup(host->instance);
-  free(host);
-}
-
-/* An empty control sequence on a forge over the control buffer. */
-static void begin_control(plugin_host *host, LV2_Atom_Forge *forge,
-                          LV2_Atom_Forge_Frame *frame) {
-  lv2_atom_forge_init(forge, &map);
-  lv2_atom_forge_set_buffer(forge, host->control.bytes, CONTROL_BYTES);
-  lv2_atom_forge_sequence_head(forge, frame, 0);
-}
-
-static void forge_set_head(LV2_Atom_Forge *forge, LV2_Atom_Forge_Frame *frame,
-                           LV2_URID key) {
-  lv2_atom_forge_frame_time(forge, 0);
-  lv2_atom_forge_object(forge, frame, 0, uris.patch_Set);
-  lv2_atom_forge_key(forge, uris.patch_property);
-  lv2_atom_forge_urid(forge, key);
-  lv2_atom_forge_key(forge, uris.patch_value);
-}
-
-/* patch:Set of the folder, the label and the offsets at frame 0. */
-static void forge_parameters(plugin_host *host, const char *folder) {
-  LV2_Atom_Forge forge;
-  LV2_Atom_Forge_Frame sequence;
+/* patch:Set of the folder, the label and the offsets at frame 0, in the
+   control sequence begun. */
+static void forge_parameters(host_instance *host, const char *folder) {
+  LV2_Atom_Forge *forge = &host->forge;
   LV2_Atom_Forge_Frame object;
-  begin_control(host, &forge, &sequence);
-  forge_set_head(&forge, &object, uris.log_folder);
-  lv2_atom_forge_path(&forge, folder, (uint32_t)strlen(folder));
-  lv2_atom_forge_pop(&forge, &object);
-  forge_set_head(&forge, &object, uris.take_label);
-  lv2_atom_forge_string(&forge, LABEL, (uint32_t)strlen(LABEL));
-  lv2_atom_forge_pop(&forge, &object);
-  forge_set_head(&forge, &object, uris.custom_offsets);
-  lv2_atom_forge_vector(&forge, sizeof(float), uris.atom_Float, 12, offsets);
-  lv2_atom_forge_pop(&forge, &object);
-  lv2_atom_forge_pop(&forge, &sequence);
-}
-
-static void run_block(plugin_host *host) {
-  host->notify.sequence.atom.type = map_uri(NULL, LV2_ATOM__Chunk);
-  host->notify.sequence.atom.size = NOTIFY_BYTES - sizeof(LV2_Atom);
-  suite.descriptor->run(host->instance, BLOCK_FRAMES);
+  host_patch_set_begin(host, 0, &object, uris.log_folder);
+  lv2_atom_forge_path(forge, folder, (uint32_t)strlen(folder));
+  lv2_atom_forge_pop(forge, &object);
+  host_patch_set_begin(host, 0, &object, uris.take_label);
+  lv2_atom_forge_string(forge, LABEL, (uint32_t)strlen(LABEL));
+  lv2_atom_forge_pop(forge, &object);
+  host_patch_set_begin(host, 0, &object, uris.custom_offsets);
+  lv2_atom_forge_vector(forge, sizeof(float), uris.atom_Float, 12, offsets);
+  lv2_atom_forge_pop(forge, &object);
 }
 
 /* Block `block` of a take: a quiet 440 Hz tone (-26 dBFS: hearing
    caution) for the first half of the take, then faint noise. */
-static void fill_block(plugin_host *host, int block) {
+static void fill_block(float in[BLOCK_FRAMES], int block) {
   for (int i = 0; i < BLOCK_FRAMES; ++i) {
     double t_s = (block * BLOCK_FRAMES + i) / SAMPLE_RATE_HZ;
-    host->in[i] = block < BLOCKS / 2 ? (float)(0.05 * sin(2.0 * M_PI * 440.0 * t_s))
+    in[i] = block < BLOCKS / 2 ? (float)(0.05 * sin(2.0 * M_PI * 440.0 * t_s))
                                      : 0.001f * (float)((i * 7919) % 101 - 50) / 50.0f;
   }
 }
@@ -463,20 +264,19 @@ static void fill_block(plugin_host *host, int block) {
    half, then faint noise, so that one note completes and the take's files
    are opened (docs/log-format.md: with the first note); `folder`, if not
    NULL, is set at frame 0. */
-static void run_take(plugin_host *host, const char *folder) {
-  suite.descriptor->activate(host->instance);
+static void run_take(host_instance *host, const char *folder) {
+  host->descriptor->activate(host->instance);
+  float in[BLOCK_FRAMES];
   for (int block = 0; block < BLOCKS; ++block) {
-    LV2_Atom_Forge forge;
-    LV2_Atom_Forge_Frame sequence;
-    begin_control(host, &forge, &sequence);
-    lv2_atom_forge_pop(&forge, &sequence);
+    host_control_begin(host);
     if (block == 0 && folder) {
       forge_parameters(host, folder);
     }
-    fill_block(host, block);
-    run_block(host);
+    host_control_end(host);
+    fill_block(in, block);
+    host_run(host, in, BLOCK_FRAMES);
   }
-  suite.descriptor->deactivate(host->instance);
+  host->descriptor->deactivate(host->instance);
 }
 
 /* ================================================== files */
@@ -514,20 +314,10 @@ static int count_ending(const char *folder, const char *suffix) {
   return count;
 }
 
-static int remove_one(const char *path, const struct stat *info, int flag,
-                      struct FTW *walk) {
-  (void)info;
-  (void)flag;
-  (void)walk;
-  return remove(path);
-}
-
 /* Fresh ROOT/session and ROOT/env, the latter as $PLUMB_LOG_DIR. */
 static int make_dirs(void **state) {
   (void)state;
-  snprintf(dirs.root, sizeof dirs.root, "%s/plumb-state.XXXXXX",
-           getenv("TMPDIR") ? getenv("TMPDIR") : "/tmp");
-  if (!mkdtemp(dirs.root)) {
+  if (host_folder_make(dirs.root, sizeof dirs.root, "plumb-state") != 0) {
     return -1;
   }
   snprintf(dirs.session, sizeof dirs.session, "%s/session", dirs.root);
@@ -539,19 +329,19 @@ static int make_dirs(void **state) {
 
 static int remove_dirs(void **state) {
   (void)state;
-  return nftw(dirs.root, remove_one, 16, FTW_DEPTH | FTW_PHYS);
+  return host_folder_remove(dirs.root);
 }
 
 /* ================================================== tests */
 
-static void save_into(plugin_host *host, store *s) {
+static void save_into(host_instance *host, store *s) {
   LV2_State_Status status = suite.state->save(
       host->instance, store_value, s, LV2_STATE_IS_POD | LV2_STATE_IS_PORTABLE,
       with_map_path);
   assert_int_equal(status, LV2_STATE_SUCCESS);
 }
 
-static void restore_from(plugin_host *host, store *s) {
+static void restore_from(host_instance *host, store *s) {
   LV2_State_Status status = suite.state->restore(
       host->instance, retrieve_value, s, 0, with_map_path);
   assert_int_equal(status, LV2_STATE_SUCCESS);
@@ -597,18 +387,18 @@ static void check_logged(const char *folder) {
 static void test_save_and_restore(void **state) {
   (void)state;
   char *folder = joined(dirs.session, "takes");
-  plugin_host *first = open_host(false, false);
+  host_instance *first = open_host(false, false);
   run_take(first, folder);
   store s = {0};
   save_into(first, &s);
-  close_host(first);
+  host_instance_close(first);
   check_saved(&s);
 
-  plugin_host *second = open_host(false, true);
+  host_instance *second = open_host(false, true);
   restore_from(second, &s);
   assert_int_equal(absolute_calls, 1);
   run_take(second, NULL);
-  close_host(second);
+  host_instance_close(second);
   check_logged(folder);
   free_store(&s);
   free(folder);
@@ -616,25 +406,25 @@ static void test_save_and_restore(void **state) {
 
 /* After restoring `bad`, the values of `good` are all still saved. */
 static void check_kept(store *good, store *bad) {
-  plugin_host *host = open_host(false, false);
+  host_instance *host = open_host(false, false);
   restore_from(host, good);
   restore_from(host, bad);
   store again = {0};
   abstract_calls = 0;
   save_into(host, &again);
-  close_host(host);
+  host_instance_close(host);
   check_saved(&again);
   free_store(&again);
 }
 
 static void test_missing_and_wrong_types(void **state) {
   (void)state;
-  plugin_host *host = open_host(false, false);
+  host_instance *host = open_host(false, false);
   store empty = {0};
   restore_from(host, &empty);
   store saved = {0};
   save_into(host, &saved);
-  close_host(host);
+  host_instance_close(host);
   assert_int_equal(saved.count, 0); /* all defaults: nothing set */
 
   store good = {0};
@@ -667,10 +457,10 @@ static void test_missing_and_wrong_types(void **state) {
 
 static void test_make_path(void **state) {
   (void)state;
-  plugin_host *host = open_host(true, true);
+  host_instance *host = open_host(true, true);
   assert_int_equal(make_calls_now(), 0); /* never in instantiate */
   run_take(host, NULL);
-  close_host(host);
+  host_instance_close(host);
   int calls = make_calls_now();
   assert_true(calls >= 1);
   for (int i = 0; i < calls && i < MAX_CALLS; ++i) {
@@ -694,18 +484,16 @@ static void test_make_path(void **state) {
    and logs inside the session. */
 static void test_make_path_relative_first(void **state) {
   (void)state;
-  plugin_host *host = open_host(true, true);
+  host_instance *host = open_host(true, true);
   relative_answers = 1;
-  suite.descriptor->activate(host->instance); /* the probe: one silent block */
-  LV2_Atom_Forge forge;
-  LV2_Atom_Forge_Frame sequence;
-  begin_control(host, &forge, &sequence);
-  lv2_atom_forge_pop(&forge, &sequence);
-  memset(host->in, 0, sizeof host->in);
-  run_block(host);
-  suite.descriptor->deactivate(host->instance);
+  host->descriptor->activate(host->instance); /* the probe: one silent block */
+  host_control_begin(host);
+  host_control_end(host);
+  static const float silence[BLOCK_FRAMES];
+  host_run(host, silence, BLOCK_FRAMES);
+  host->descriptor->deactivate(host->instance);
   run_take(host, NULL); /* the real take, with a note */
-  close_host(host);
+  host_instance_close(host);
   relative_answers = 0;
   assert_true(make_calls_now() >= 1);
   char *made = joined(dirs.session, "plumb-logs");
@@ -720,36 +508,27 @@ static void test_make_path_relative_first(void **state) {
 
 static void test_make_path_from_the_hosts_worker(void **state) {
   (void)state;
-  worker.interface = suite.descriptor->extension_data(LV2_WORKER__interface);
-  assert_non_null(worker.interface);
-  plugin_host *host = open_host_with(true, true, true);
+  assert_non_null(suite.plugin.worker_interface);
+  host_instance *host = open_host_with(true, HOST_WORKER_THREAD, true);
   assert_int_equal(make_calls_now(), 0); /* never in instantiate */
-  worker.instance = host->instance;
-  atomic_store(&worker.stop, false);
-  assert_int_equal(pthread_create(&worker.thread, NULL, worker_main, NULL), 0);
-  suite.descriptor->activate(host->instance);
+  host->descriptor->activate(host->instance);
+  float in[BLOCK_FRAMES];
   for (int block = 0; block < BLOCKS; ++block) {
-    LV2_Atom_Forge forge;
-    LV2_Atom_Forge_Frame sequence;
-    begin_control(host, &forge, &sequence);
-    lv2_atom_forge_pop(&forge, &sequence);
-    fill_block(host, block); /* a note: the take's files open with it */
-    run_block(host);
+    host_control_begin(host);
+    host_control_end(host);
+    fill_block(in, block); /* a note: the take's files open with it */
+    host_run(host, in, BLOCK_FRAMES);
   }
-  const struct timespec pause = {0, 1000000L};
-  for (int tries = 0; tries < 2000 && atomic_load(&worker.worked) <
-                                          atomic_load(&worker.scheduled);
-       ++tries) {
-    nanosleep(&pause, NULL);
-  }
-  suite.descriptor->deactivate(host->instance);
-  atomic_store(&worker.stop, true);
-  pthread_join(worker.thread, NULL);
-  close_host(host);
-  assert_true(atomic_load(&worker.worked) >= 1);
+  host_worker_wait_idle(&host->worker);
+  host->descriptor->deactivate(host->instance);
+  host_worker_stop(&host->worker);
+  unsigned long worked = atomic_load(&host->worker.work_calls);
+  pthread_t worker_thread = host->worker.thread;
+  host_instance_close(host);
+  assert_true(worked >= 1);
   int calls = make_calls_now();
   assert_int_equal(calls, 1); /* docs/ports.md: once per instance */
-  assert_true(pthread_equal(make_threads[0], worker.thread));
+  assert_true(pthread_equal(make_threads[0], worker_thread));
   char *made = joined(dirs.session, "plumb-logs");
   assert_int_equal(count_ending(made, ".notes.csv"), 1);
   assert_int_equal(count_ending(made, ".run.json"), 1);
@@ -761,53 +540,26 @@ static void test_make_path_from_the_hosts_worker(void **state) {
    the tests above can tell the two apart. */
 static void test_without_make_path(void **state) {
   (void)state;
-  plugin_host *host = open_host(false, true);
+  host_instance *host = open_host(false, true);
   run_take(host, NULL);
-  close_host(host);
+  host_instance_close(host);
   assert_int_equal(make_calls_now(), 0);
   assert_int_equal(count_ending(dirs.env, ".notes.csv"), 1);
 }
 
 /* ================================================== setup */
 
-/* build/tests/test_state -> build/plumb.lv2/plumb.so */
-static int load_plugin(void) {
-  char executable[PATH_MAX];
-  ssize_t length = readlink("/proc/self/exe", executable, sizeof executable - 1);
-  if (length <= 0) {
-    return -1;
-  }
-  executable[length] = '\0';
-  char *slash = strrchr(executable, '/');
-  if (!slash) {
-    return -1;
-  }
-  *slash = '\0';
-  char binary[PATH_MAX + 32];
-  snprintf(binary, sizeof binary, "%s/../plumb.lv2/plumb.so", executable);
-  suite.library = dlopen(binary, RTLD_NOW | RTLD_LOCAL);
-  if (!suite.library) {
-    fprintf(stderr, "cannot load %s: %s (run make all)\n", binary, dlerror());
-    return -1;
-  }
-  LV2_Descriptor_Function get =
-      (LV2_Descriptor_Function)dlsym(suite.library, "lv2_descriptor");
-  for (uint32_t i = 0; get && get(i) && !suite.descriptor; ++i) {
-    if (strcmp(get(i)->URI, PLUGIN_URI) == 0) {
-      suite.descriptor = get(i);
-    }
-  }
-  return suite.descriptor ? 0 : -1;
-}
-
 static int setup_suite(void **state) {
   (void)state;
   suite.main_thread = pthread_self();
   map_uris();
-  if (load_plugin() != 0) {
+  if (host_plugin_load(&suite.plugin) != 0) {
     return -1;
   }
-  suite.state = suite.descriptor->extension_data(LV2_STATE__interface);
+  host_features_build(&suite.features, SAMPLE_RATE_HZ, BLOCK_FRAMES);
+  host_features_build(&suite.features_make_path, SAMPLE_RATE_HZ, BLOCK_FRAMES);
+  host_features_add(&suite.features_make_path, LV2_STATE__makePath, &make_path_feature);
+  suite.state = suite.plugin.descriptor->extension_data(LV2_STATE__interface);
   if (!suite.state || !suite.state->save || !suite.state->restore) {
     fprintf(stderr, "the plugin has no state interface\n");
     return -1;
@@ -817,9 +569,7 @@ static int setup_suite(void **state) {
 
 static int teardown_suite(void **state) {
   (void)state;
-  if (suite.library) {
-    dlclose(suite.library);
-  }
+  host_plugin_unload(&suite.plugin);
   return 0;
 }
 

@@ -1,8 +1,8 @@
 /*
   The host's transport at each note's onset (docs/ports.md,
-  "time:Position"; core/plumb.h, plumb_mark_transport).
+  "time:Position"; core/include/plumb.h, plumb_mark_transport).
 
-  This executable hosts build/plumb.lv2/plumb.so (tests/plugin_host.h),
+  This executable hosts build/plumb.lv2/plumb.so (tests/plugin/plugin_host.c),
   plays a take of nine notes and sends time:Position objects mid-block:
   a start at 10 s with bar and beat, a locate to 100 s while a note
   sounds, a loop back to 99 s while a note sounds, a stop (speed 0, no
@@ -17,7 +17,7 @@
   frame / rate + speed * o / rate, and its musical time is
   beats = bar * beatsPerBar + barBeat + speed * (o / rate) * bpm / 60,
   shown as bar floor(beats / beatsPerBar) + 1 and beat
-  beats - (bar - 1) * beatsPerBar + 1 (both counted from 1, core/plumb.h).
+  beats - (bar - 1) * beatsPerBar + 1 (both counted from 1, core/include/plumb.h).
   The test walks its own list of events to get these, from each note's
   start_s as the note reports it; the notes themselves must sit within
   50 ms of the synthetic take's onsets (the note-matching tolerance of
@@ -30,18 +30,21 @@
   also in a second take; and the session log's timeline_s column is the
   note's (docs/log-format.md).
 */
+#include "folder_host.h"
 #include "plugin_host.h"
-#include "signal.h"
+#include "take_host.h"
 
 #include "plumb.h"
 
-#include <lv2/patch/patch.h>
-#include <lv2/time/time.h>
 
 #include <errno.h>
 #include <math.h>
 #include <stddef.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include <setjmp.h>
 #include <cmocka.h>
@@ -79,21 +82,7 @@ static size_t seconds_to_frames(double seconds) {
 }
 
 static float *render_take(size_t *n) {
-  *n = seconds_to_frames(TAKE_S);
-  float *samples = calloc(*n, sizeof *samples);
-  sig_voice voice;
-  memset(&voice, 0, sizeof voice);
-  voice.timbre = (sig_timbre){8, SIG_AMPS_SAWTOOTH, NULL, 0.0, true, 5};
-  voice.envelope =
-      (sig_envelope){SIG_RAMP_LINEAR, 0.02, 0.10, -4.0, SIG_RAMP_EXP, 0.04};
-  voice.reference_hz = 440.0;
-  voice.amplitude = 0.2;
-  if (!samples || sig_render_notes(&voice, take_notes, TAKE_NOTES,
-                                   SAMPLE_RATE_HZ, samples, *n) != 0) {
-    free(samples);
-    return NULL;
-  }
-  return samples;
+  return host_take_render(take_notes, TAKE_NOTES, TAKE_S, SAMPLE_RATE_HZ, 5, n);
 }
 
 /* ================================================== the events */
@@ -244,10 +233,8 @@ static void plan_scenario(event_list *list) {
 /* ================================================== forging */
 
 static struct {
-  LV2_URID atom_Object, atom_Int, atom_Double, time_Position, time_frame,
-      time_speed, time_bar, time_barBeat, time_beatsPerBar,
-      time_beatsPerMinute, patch_Set, patch_property, patch_value,
-      take_label, plumb_Note, note_index, note_start_s, note_timeline_s,
+  host_time_uris time;
+  LV2_URID atom_Object, atom_Int, atom_Double, take_label, plumb_Note, note_index, note_start_s, note_timeline_s,
       note_bar, note_beat;
 } uris;
 
@@ -255,16 +242,7 @@ static void map_uris(void) {
   uris.atom_Object = host_map(LV2_ATOM__Object);
   uris.atom_Int = host_map(LV2_ATOM__Int);
   uris.atom_Double = host_map(LV2_ATOM__Double);
-  uris.time_Position = host_map(LV2_TIME__Position);
-  uris.time_frame = host_map(LV2_TIME__frame);
-  uris.time_speed = host_map(LV2_TIME__speed);
-  uris.time_bar = host_map(LV2_TIME__bar);
-  uris.time_barBeat = host_map(LV2_TIME__barBeat);
-  uris.time_beatsPerBar = host_map(LV2_TIME__beatsPerBar);
-  uris.time_beatsPerMinute = host_map(LV2_TIME__beatsPerMinute);
-  uris.patch_Set = host_map(LV2_PATCH__Set);
-  uris.patch_property = host_map(LV2_PATCH__property);
-  uris.patch_value = host_map(LV2_PATCH__value);
+  host_time_uris_map(&uris.time);
   uris.take_label = host_map("urn:plumb:takeLabel");
   uris.plumb_Note = host_map("urn:plumb:Note");
   uris.note_index = host_map(NOTE_KEY_PREFIX "index");
@@ -298,29 +276,25 @@ static bool forge_position(LV2_Atom_Forge *forge, int64_t offset,
   LV2_Atom_Forge_Frame object;
   bool fits =
       lv2_atom_forge_frame_time(forge, offset) &&
-      lv2_atom_forge_object(forge, &object, 0, uris.time_Position) &&
-      forge_number(forge, uris.time_frame, e->frame) &&
-      forge_number(forge, uris.time_speed, e->speed) &&
-      forge_number(forge, uris.time_bar, e->bar) &&
-      forge_number(forge, uris.time_barBeat, e->bar_beat) &&
-      forge_number(forge, uris.time_beatsPerBar, e->beats_per_bar) &&
-      forge_number(forge, uris.time_beatsPerMinute, e->beats_per_minute);
+      lv2_atom_forge_object(forge, &object, 0, uris.time.Position) &&
+      forge_number(forge, uris.time.frame, e->frame) &&
+      forge_number(forge, uris.time.speed, e->speed) &&
+      forge_number(forge, uris.time.bar, e->bar) &&
+      forge_number(forge, uris.time.barBeat, e->bar_beat) &&
+      forge_number(forge, uris.time.beatsPerBar, e->beats_per_bar) &&
+      forge_number(forge, uris.time.beatsPerMinute, e->beats_per_minute);
   if (fits) {
     lv2_atom_forge_pop(forge, &object);
   }
   return fits;
 }
 
-static bool forge_label(LV2_Atom_Forge *forge) {
+static bool forge_label(host_instance *host) {
   LV2_Atom_Forge_Frame object;
-  bool fits = lv2_atom_forge_frame_time(forge, 0) &&
-              lv2_atom_forge_object(forge, &object, 0, uris.patch_Set) &&
-              lv2_atom_forge_key(forge, uris.patch_property) &&
-              lv2_atom_forge_urid(forge, uris.take_label) &&
-              lv2_atom_forge_key(forge, uris.patch_value) &&
-              lv2_atom_forge_string(forge, LABEL, sizeof LABEL - 1);
+  bool fits = host_patch_set_begin(host, 0, &object, uris.take_label) &&
+              lv2_atom_forge_string(&host->forge, LABEL, sizeof LABEL - 1);
   if (fits) {
-    lv2_atom_forge_pop(forge, &object);
+    lv2_atom_forge_pop(&host->forge, &object);
   }
   return fits;
 }
@@ -394,7 +368,7 @@ static bool write_control(host_instance *host, const control_plan *plan,
                           size_t begin, size_t frames) {
   bool fits = host_control_begin(host);
   if (plan->label && begin == 0) {
-    fits = fits && forge_label(&host->forge);
+    fits = fits && forge_label(host);
   }
   if (plan->every_block && plan->events) {
     model m = model_at(plan->events, begin > 0 ? begin - 1 : 0);
@@ -447,7 +421,7 @@ static bool drive_take(size_t block_frames, const control_plan *plan,
   host_features features;
   host_features_build(&features, SAMPLE_RATE_HZ, (uint32_t)block_frames);
   host_instance *host =
-      host_instance_open(&suite.plugin, &features, SAMPLE_RATE_HZ, logging);
+      host_instance_open(&suite.plugin, &features, SAMPLE_RATE_HZ, logging, HOST_NO_WORKER);
   if (!host) {
     return false;
   }
@@ -472,7 +446,7 @@ static void assert_notes_of_the_take(const take_result *result) {
   }
 }
 
-/* core/plumb.h: the onset sample a note's timeline comes from. */
+/* core/include/plumb.h: the onset sample a note's timeline comes from. */
 static size_t onset_sample(const received_note *note) {
   return (size_t)llround(fmax(0.0, note->start_s * SAMPLE_RATE_HZ));
 }
@@ -585,7 +559,7 @@ static void test_positions_follow_the_transport(void **state) {
   suite.by_block_done[slot_of(block_frames)] = true;
 }
 
-/* core/plumb.h: results do not depend on the block sizes; the events
+/* core/include/plumb.h: results do not depend on the block sizes; the events
    sit at the same take frames, so every block size gives the same
    numbers, bit for bit. */
 static void test_block_sizes_agree(void **state) {
@@ -633,7 +607,7 @@ static void test_without_positions_time_since_activation(void **state) {
   host_features features;
   host_features_build(&features, SAMPLE_RATE_HZ, 512);
   host_instance *host =
-      host_instance_open(&suite.plugin, &features, SAMPLE_RATE_HZ, false);
+      host_instance_open(&suite.plugin, &features, SAMPLE_RATE_HZ, false, HOST_NO_WORKER);
   assert_non_null(host);
   event_list events;
   plan_scenario(&events);
@@ -731,10 +705,8 @@ static void test_log_has_the_positions(void **state) {
 static int setup_suite(void **state) {
   (void)state;
   map_uris();
-  const char *tmp = getenv("TMPDIR");
-  snprintf(suite.folder, sizeof suite.folder, "%s/plumb-timeline.XXXXXX",
-           tmp && tmp[0] ? tmp : "/tmp");
-  if (!mkdtemp(suite.folder) || setenv("PLUMB_LOG_DIR", suite.folder, 1)) {
+  if (host_folder_make(suite.folder, sizeof suite.folder, "plumb-timeline") != 0 ||
+      setenv("PLUMB_LOG_DIR", suite.folder, 1)) {
     perror("log folder");
     return -1;
   }
@@ -748,13 +720,7 @@ static int setup_suite(void **state) {
 
 static int teardown_suite(void **state) {
   (void)state;
-  char path[PATH_MAX];
-  const char *suffixes[] = {".notes.csv", ".run.json"};
-  for (size_t i = 0; i < 2; ++i) {
-    snprintf(path, sizeof path, "%s/%s%s", suite.folder, LABEL, suffixes[i]);
-    unlink(path);
-  }
-  rmdir(suite.folder);
+  host_folder_remove(suite.folder);
   free(suite.take);
   host_plugin_unload(&suite.plugin);
   return 0;
