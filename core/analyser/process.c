@@ -92,7 +92,7 @@ static void analyse_newest(plumb *self, candidate_set *candidates) {
                   &self->level_dbfs[slot]);
   /* Until the frame two hops back lies wholly inside the take there is no
      "before" to compare with: the take's own start is not an onset. */
-  bool has_past = frame >= (uint64_t)(self->fft_size / self->hop + 2);
+  bool has_past = frame >= (uint64_t)(self->fft_size / self->hop) + 2;
   self->onset_db[slot] = has_past ? onset_function(self, slot, ring_slot(frame - 2)) : 0.0;
   self->peak[slot] = centre_peak(self);
   oldest_energy(self, self->energy[slot]);

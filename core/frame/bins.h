@@ -16,7 +16,8 @@
 static inline bool band_bins(double low_hz, double high_hz, double bin_hz, int fft_size,
                              int *first, int *last) {
   double first_bin = ceil(low_hz / bin_hz), last_bin = floor(high_hz / bin_hz);
-  double top = fft_size / 2 - 1;
+  const int top_bin = fft_size / 2 - 1; /* fft_size is even */
+  double top = top_bin;
   *first = first_bin < 1.0 ? 1 : first_bin > top ? (int)top : (int)first_bin;
   *last = last_bin > top ? (int)top : last_bin < 1.0 ? 1 : (int)last_bin;
   return *first <= *last && first_bin <= last_bin;

@@ -74,7 +74,7 @@ void plumb_viterbi_push(viterbi_decoder *decoder, const candidate_set *frame) {
       int from = 0;
       next[s] = best_predecessor(decoder, previous, frame, s, &from) +
                 emission(frame, s);
-      decoder->back[slot][s] = (signed char)from;
+      decoder->back[slot][s] = (unsigned char)from;
     }
   }
   /* Keep scores near zero so that long takes cannot underflow. */

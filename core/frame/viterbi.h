@@ -12,7 +12,7 @@
 
 typedef struct {
   candidate_set frames[PLUMB_SPECTRUM_RING];
-  signed char back[PLUMB_SPECTRUM_RING][PLUMB_CANDIDATES_MAX + 1];
+  unsigned char back[PLUMB_SPECTRUM_RING][PLUMB_CANDIDATES_MAX + 1]; /* states 0 .. max */
   double score[PLUMB_CANDIDATES_MAX + 1]; /* state 0: unvoiced */
   uint64_t frames_pushed;
 } viterbi_decoder;

@@ -53,7 +53,7 @@ static void stray_amplitude(const frame_record *f, double f0_hz, double b,
     /* Below the fundamental lie body and room resonances and the ringing
        of earlier notes; a strike's modes lie above its lowest one. */
     if (f->peaks[i].frequency_hz < SUBFUNDAMENTAL_RATIO * f0_hz) continue;
-    double amplitude = sqrt(f->peaks[i].power);
+    double amplitude = sqrt((double)f->peaks[i].power);
     *total += amplitude;
     if (!on_series(f->peaks[i].frequency_hz, f0_hz, b, tolerance_cents, slack_hz))
       *stray += amplitude;

@@ -71,7 +71,7 @@ static bool measure_pitch(const measure_context *context, const frame_record *fr
     if (frames[i].peak > peak) peak = frames[i].peak;
     voiced += frames[i].voiced;
   }
-  note->peak_dbfs = peak > 0.0f ? 20.0 * log10(peak) : -INFINITY;
+  note->peak_dbfs = peak > 0.0f ? 20.0 * log10((double)peak) : -INFINITY;
   steady_part part;
   if (voiced < 3 || voiced < MIN_VOICED_FRACTION * count ||
       !plumb_steady_part_find(context, frames, count, note->start_s, note->end_s,

@@ -179,7 +179,7 @@ void plumb_note_mode_cents(const measure_context *context, const frame_record *f
       long n = lround(peak->frequency_hz / low_hz);
       if (n < 1 || n > PLUMB_MAX_PARTIALS || peak->power <= best_power[n - 1]) continue;
       best_power[n - 1] = peak->power;
-      best_cents[n - 1] = 1200.0 * log2(peak->frequency_hz / (n * low_hz));
+      best_cents[n - 1] = 1200.0 * log2(peak->frequency_hz / ((double)n * low_hz));
     }
     for (int k = 0; k < PLUMB_MAX_PARTIALS; ++k) {
       weight[k] += best_power[k];

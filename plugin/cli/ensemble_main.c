@@ -8,6 +8,7 @@
 #include "parse_value.h"
 #include "progress.h"
 
+#include <assert.h>
 #include <getopt.h>
 #include <limits.h>
 #include <stdio.h>
@@ -64,6 +65,8 @@ static const char *output_folder(const ensemble_options *options, const char *fi
 static int compare(const ensemble_logs *logs, int take, const ensemble_options *options) {
   size_t n = 0;
   plumb_ensemble_track *tracks = calloc(logs->count ? logs->count : 1, sizeof *tracks);
+  /* An array of pointers: sizeof *chosen is meant. */
+  /* NOLINTNEXTLINE(bugprone-sizeof-expression) */
   const ensemble_log **chosen = calloc(logs->count ? logs->count : 1, sizeof *chosen);
   if (!tracks || !chosen) {
     free(tracks);
@@ -77,6 +80,7 @@ static int compare(const ensemble_logs *logs, int take, const ensemble_options *
     tracks[n] = (plumb_ensemble_track){log->stem, log->notes, log->count};
     chosen[n++] = log;
   }
+  assert(n > 0); /* choose_take() gives a take that some log read has */
   plumb_ensemble_result *result = NULL;
   plumb_status status = plumb_ensemble_run(tracks, n, &options->settings, &result);
   int exit_status = EXIT_STATUS_DONE;

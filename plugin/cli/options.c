@@ -184,7 +184,8 @@ static void lower_case(const char *text, char *lower, size_t size) {
   size_t i = 0;
   for (; text[i] && i + 1 < size; ++i) {
     char c = text[i];
-    lower[i] = c >= 'A' && c <= 'Z' ? (char)(c - 'A' + 'a') : c;
+    if (c >= 'A' && c <= 'Z') c = (char)(c - 'A' + 'a');
+    lower[i] = c;
   }
   lower[text[i] ? 0 : i] = '\0';
 }

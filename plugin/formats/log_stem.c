@@ -12,7 +12,7 @@ size_t plumb_log_stem(const char *label, char *stem) {
   for (const unsigned char *c = (const unsigned char *)label; *c && length < PLUMB_LOG_STEM_MAX;
        ++c) {
     if ((*c & 0xC0u) == 0x80u) continue; /* a UTF-8 continuation byte: its lead gave the '_' */
-    stem[length++] = stem_keeps(*c) ? (char)*c : '_';
+    stem[length++] = (char)(stem_keeps(*c) ? *c : '_');
   }
   stem[length] = '\0';
   if (stem[0] == '.') stem[0] = '_';

@@ -108,7 +108,7 @@ static void field_partial_cents(text_sink *sink, const plumb_note *note) {
       text_sink_char(sink, ' ');
     }
     first = false;
-    text_sink_unsigned(sink, (uint64_t)(k + 1), 1);
+    text_sink_unsigned(sink, (uint64_t)k + 1, 1);
     text_sink_char(sink, ':');
     if (!signbit(cents)) {
       text_sink_char(sink, '+');

@@ -23,11 +23,11 @@
 #define CENTS_SHOWN_MAX 50.0
 /* The shown ranges of the newer last-note ports, as ttl/plumb.ttl
    declares them; a reading beyond one shows at its end. */
-#define HNR_SHOWN_MIN_DB -20.0
+#define HNR_SHOWN_MIN_DB (-20.0)
 #define HNR_SHOWN_MAX_DB 80.0
 #define ODD_EVEN_SHOWN_MAX_DB 40.0
 #define ATTACK_SHOWN_MAX_MS 2000.0
-#define VERDICT_NONE -1.0f
+#define VERDICT_NONE (-1.0f)
 
 void controls_default(take_settings *settings, bool *logging) {
   memset(settings, 0, sizeof *settings);

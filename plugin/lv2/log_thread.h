@@ -19,6 +19,6 @@ log_thread *log_thread_start(log_writer *writer, int *error);
 
 /* Stop and join the thread (at most one poll interval); NULL does
    nothing. The writer is left as it is, for log_writer_free(). */
-void log_thread_stop(log_thread *thread);
+void log_thread_stop(log_thread *self);
 
 #endif /* PLUMB_LV2_LOG_THREAD_H */

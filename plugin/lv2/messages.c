@@ -196,6 +196,9 @@ static unsigned set_offsets(const plumb_uris *uris, const LV2_Atom *value,
   if (!read_offsets(uris, value, offsets_cents, complaints)) {
     return 0;
   }
+  /* Bit for bit on purpose: any change of the twelve numbers (even
+     0 to -0) is passed on and echoed.
+     NOLINTNEXTLINE(bugprone-suspicious-memory-comparison,cert-exp42-c,cert-flp37-c) */
   if (memcmp(offsets_cents, parameters->custom_offsets_cents,
              sizeof offsets_cents) == 0) {
     return 0;
