@@ -202,9 +202,19 @@ static void update_live(plumb *self, const frame_record *record) {
   live->confidence = record->voiced_probability * record->harmonic_ratio;
 }
 
+/* Whether any frame of the segment has a sample of its own: a segment
+   made only of the window's tail over digital silence (the frames after
+   a sound, at the end of a take) is no note. */
+static bool holds_sound(const frame_record *frames, int count) {
+  for (int i = 0; i < count; ++i)
+    if (frames[i].peak > 0.0f) return true;
+  return false;
+}
+
 /* The tracker's sink: measure the note and queue it. */
 static void complete_note(void *context, const frame_record *frames, int count) {
   plumb *self = context;
+  if (!holds_sound(frames, count)) return;
   plumb_note note;
   plumb_note_measure(&self->measure, frames, count, self->scratch, self->levels_db, &note);
   self->measure.previous_unpitched = note.verdict == PLUMB_VERDICT_UNPITCHED;

@@ -65,13 +65,22 @@ static bool measure_pitch(const measure_context *context, const frame_record *fr
                           int count, double *scratch, plumb_note *note) {
   note->start_s = plumb_note_edges_start_s(context, frames, count);
   note->end_s = plumb_note_edges_end_s(context, frames, count);
+  /* A sound shorter than the frame has no step-shaped edges for the lead
+     of the onset's refinement, and the frames before the first whole one
+     all sit at sample 0, so the refined onset can pass the refined offset
+     (tests/fuzz/regressions/core/): keep them in order, with the onset at
+     the frame the note was found at. */
+  if (note->start_s > note->end_s)
+    note->start_s = fmin(plumb_note_edges_frame_time_s(context, &frames[0]), note->end_s);
   float peak = 0.0f;
   int voiced = 0;
   for (int i = 0; i < count; ++i) {
     if (frames[i].peak > peak) peak = frames[i].peak;
     voiced += frames[i].voiced;
   }
-  note->peak_dbfs = peak > 0.0f ? 20.0 * log10((double)peak) : -INFINITY;
+  /* A note with no sample above zero has no peak level: NaN, as plumb.h
+     has it, not -inf (process.c drops such segments before they get here). */
+  note->peak_dbfs = peak > 0.0f ? 20.0 * log10((double)peak) : NAN;
   steady_part part;
   if (voiced < 3 || voiced < MIN_VOICED_FRACTION * count ||
       !plumb_steady_part_find(context, frames, count, note->start_s, note->end_s,

@@ -62,4 +62,8 @@ void plumb_timeline_locate(const timeline_marks *marks, uint64_t sample, double 
   double seconds = ((double)sample - (double)marks->sample[slot]) / sample_rate_hz;
   *position_s = t->position_s + t->speed * seconds;
   if (t->has_beats) beats_after(t, seconds, bar, beat);
+  /* A host's finite but enormous values (a bar of 1e308) overflow here: a
+     reading that is not a number does not apply (plumb.h), so NaN. */
+  if (!isfinite(*position_s)) *position_s = NAN;
+  if (!isfinite(*bar) || !isfinite(*beat)) *bar = *beat = NAN;
 }

@@ -389,6 +389,12 @@ static double scale_decimal(uint64_t mantissa, int exponent) {
     }
     return exponent < 0 ? value / power : value * power;
   }
+  /* Below about 10^-307 the power itself is subnormal and has lost
+     precision although the value need not be: scale in two steps, each
+     factor a normal double. */
+  if (exponent < -300) {
+    return value * pow(10.0, (double)(exponent + 300)) * 1e-300;
+  }
   return value * pow(10.0, (double)exponent);
 }
 

@@ -34,9 +34,10 @@ bool parse_decimal(const char *text, double *value) {
   const char *point = strchr(text, '.');
   size_t length = strlen(text);
   size_t integer_length = point ? (size_t)(point - text) : length;
-  /* Trailing zeros of the fraction add nothing but digits to count. */
+  /* Trailing zeros of the fraction add nothing but digits to count; one
+     is kept, so that ".0" still has its digit. */
   size_t end = length;
-  while (point && end > integer_length + 1 && text[end - 1] == '0') {
+  while (point && end > integer_length + 2 && text[end - 1] == '0') {
     --end;
   }
   double mantissa = 0.0;

@@ -303,7 +303,10 @@ static void mark_transport(Plumb *self, const LV2_Atom_Object *position) {
 }
 
 static void handle_event(Plumb *self, const LV2_Atom *body, uint32_t frame) {
-  if (!lv2_atom_forge_is_object_type(&self->forge, body->type)) {
+  /* An object too short to hold its id and class is no message (its class
+     would be read past the event: tests/fuzz/regressions/plugin/). */
+  if (!lv2_atom_forge_is_object_type(&self->forge, body->type) ||
+      body->size < sizeof(LV2_Atom_Object_Body)) {
     return;
   }
   const LV2_Atom_Object *object = (const LV2_Atom_Object *)body;
@@ -332,7 +335,11 @@ static void analyse_with_events(Plumb *self, uint32_t n_samples) {
                                                  : (uint32_t)at;
       analyse(self, analysed, frame);
       analysed = frame;
-      handle_event(self, &event->body, frame);
+      /* A reply belongs to this block: an event at its end (or past it)
+         is answered at its last frame, not after it, and so before the
+         notes sent there (tests/fuzz/regressions/plugin/). */
+      uint32_t last = n_samples > 0 ? n_samples - 1 : 0;
+      handle_event(self, &event->body, frame < last ? frame : last);
     }
   }
   analyse(self, analysed, n_samples);
