@@ -1,8 +1,8 @@
 /*
-  The analyser: an input FIFO that runs a fixed hop whatever the host's
-  block sizes, and per hop the frame analysis (spectrum, YIN, candidates),
-  the online pitch/voicing decoder, the harmonic refinement of the decided
-  frame, the note tracker and the note measures.
+  The analyser's lifecycle and its public calls: creating it (all memory
+  and every FFTW plan, under the planner's lock), settings, reset, and the
+  input FIFO that runs a fixed hop whatever the host's block sizes, handing
+  each hop to process.c, which does the analysis; then the queries.
 */
 #include "analyser/analyser.h"
 
