@@ -266,7 +266,7 @@ uninstall:
 	    $(DESTDIR)$(LIBDIR)/pkgconfig/plumb.pc
 
 clean:
-	rm -rf $(BUILD)
+	rm -rf $(BUILD) build-sanitize build-fuzz
 
 -include $(CORE_OBJ:.o=.d) $(FORMATS_OBJ:.o=.d) $(LV2_OBJ:.o=.d) $(CLI_OBJ:.o=.d)
 -include $(TESTLIB_OBJ:.o=.d) $(TEST_BIN:=.d) $(TOOL_BIN:=.d)

@@ -116,6 +116,10 @@ static void format_time(double seconds, char *text, size_t size) {
     snprintf(text, size, "-");
     return;
   }
+  if (seconds >= 1e9) { /* past any take, and past what llround can hold */
+    snprintf(text, size, "%.3g s", seconds);
+    return;
+  }
   long long ms = llround(seconds * 1000.0);
   snprintf(text, size, "%lld:%02lld.%03lld", ms / 60000, ms % 60000 / 1000,
            ms % 1000);
