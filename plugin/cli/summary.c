@@ -135,6 +135,14 @@ static void format_cents(double cents, char *text, size_t size) {
   snprintf(text, size, "%+.1f", tenths == 0.0 ? 0.0 : tenths);
 }
 
+/* A note name never holds a blank; one in a log's field would shift the
+   table's columns, so it is shown as '_'. */
+static void blanks_visible(char *text) {
+  for (; *text; ++text) {
+    if (*text == ' ') *text = '_';
+  }
+}
+
 static void print_flagged_rows(FILE *out, const summary_take *given,
                                int label_width) {
   note_log log;
@@ -154,6 +162,7 @@ static void print_flagged_rows(FILE *out, const summary_take *given,
     char note[64];
     char verdict[64];
     terminal_text(note_log_field(&log, columns.note), note, sizeof note);
+    blanks_visible(note);
     terminal_text(note_log_field(&log, columns.verdict), verdict,
                   sizeof verdict);
     format_time(note_log_number(&log, columns.start), time, sizeof time);
