@@ -429,8 +429,10 @@ pc_path=$prefix/lib/pkgconfig
 check "library: pkg-config finds plumb in the installed prefix" \
   env PKG_CONFIG_PATH="$pc_path" pkg-config --exists plumb
 build_against() {
-  # shellcheck disable=SC2046 # the flags are words
-  cc -std=c11 -Wall -Wextra -Werror -o "$WORK/uses_plumb" "$WORK/uses_plumb.c" \
+  # With the compiler and link flags the library was built with (the
+  # sanitizer build's library needs its runtime linked in first).
+  # shellcheck disable=SC2046,SC2086 # the flags are words
+  ${CC:-cc} -std=c11 -Wall -Wextra -Werror ${LDFLAGS:-} -o "$WORK/uses_plumb" "$WORK/uses_plumb.c" \
     $(PKG_CONFIG_PATH="$pc_path" pkg-config --cflags --libs plumb) -lm
 }
 check "library: a program builds with pkg-config --cflags --libs plumb" build_against
