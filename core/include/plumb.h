@@ -97,8 +97,9 @@ PLUMB_API void plumb_tuning_spec_default(plumb_tuning_spec *spec);
 
 /* Resolve a spec: build the temperament from its chain of fifths (or its
    ratios, for just intonation), rotate it to the tonic and anchor A.
-   PLUMB_ERR_ARGUMENT (and *tuning untouched) when the reference is not a
-   finite number above 0, the tonic is outside 0..11, the temperament
+   PLUMB_ERR_ARGUMENT (and *tuning untouched) when the reference is not
+   within PLUMB_SETTINGS_MIN_REFERENCE_HZ .. _MAX_REFERENCE_HZ (below),
+   the tonic is outside 0..11, the temperament
    outside the enumeration, or (custom only) an offset is not finite or
    is beyond +-PLUMB_CUSTOM_OFFSET_LIMIT_CENTS. */
 PLUMB_API plumb_status plumb_tuning_build(const plumb_tuning_spec *spec,

@@ -166,7 +166,10 @@ static void degree_offsets(const plumb_tuning_spec *spec,
 }
 
 static bool spec_is_valid(const plumb_tuning_spec *spec) {
-  if (!isfinite(spec->reference_hz) || !(spec->reference_hz > 0.0)) {
+  /* The settings' range (plumb.h): beyond it the targets of the outer
+     notes leave the normal doubles, and no instrument tunes there. */
+  if (!(spec->reference_hz >= PLUMB_SETTINGS_MIN_REFERENCE_HZ &&
+        spec->reference_hz <= PLUMB_SETTINGS_MAX_REFERENCE_HZ)) {
     return false;
   }
   if (spec->tonic_pitch_class < 0 || spec->tonic_pitch_class > 11) {

@@ -182,7 +182,8 @@ static void decode_tuning(fuzz_input *in, decoded_settings *d) {
   spec.temperament = (plumb_temperament)((int)(choice % 11) - 1); /* -1..9 */
   spec.tonic_pitch_class = choice & 0x80 ? (int)(int8_t)fuzz_u8(in)
                                          : fuzz_u8(in) % 12;
-  bool spec_valid = isfinite(spec.reference_hz) && spec.reference_hz > 0.0 &&
+  bool spec_valid = within(spec.reference_hz, PLUMB_SETTINGS_MIN_REFERENCE_HZ,
+                           PLUMB_SETTINGS_MAX_REFERENCE_HZ) &&
                     (int)spec.temperament >= 0 &&
                     spec.temperament < PLUMB_TEMPERAMENT_COUNT &&
                     spec.tonic_pitch_class >= 0 && spec.tonic_pitch_class <= 11;
