@@ -3,23 +3,11 @@
 #include "audio_file.h"
 #include "log_stem.h"
 #include "progress.h"
+#include "utf8_cut.h"
 
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-
-/* At most `limit` of text's first `length` bytes, ending at a whole
-   UTF-8 character. */
-static size_t utf8_cut(const char *text, size_t length, size_t limit) {
-  if (length <= limit) {
-    return length;
-  }
-  size_t cut = limit;
-  while (cut > 0 && ((unsigned char)text[cut] & 0xC0u) == 0x80u) {
-    --cut; /* text[cut] continues a character: cut before it */
-  }
-  return cut;
-}
 
 /* The file name without its folder and its last extension; a name with
    no other dot than a leading one keeps it ("take.01.wav" -> "take.01",

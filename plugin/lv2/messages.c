@@ -4,6 +4,7 @@
 */
 #include "messages.h"
 #include "forge_mark.h"
+#include "utf8_cut.h"
 
 #include <lv2/atom/util.h>
 
@@ -81,18 +82,6 @@ static unsigned set_folder(const plumb_uris *uris, const LV2_Atom *value,
   memcpy(parameters->log_folder, folder, length);
   parameters->log_folder[length] = '\0';
   return MESSAGE_CHANGED_LOG_TARGET;
-}
-
-/* Shorten to at most `limit` bytes without splitting a UTF-8 sequence. */
-static size_t utf8_cut(const char *text, size_t length, size_t limit) {
-  if (length <= limit) {
-    return length;
-  }
-  size_t cut = limit;
-  while (cut > 0 && ((unsigned char)text[cut] & 0xC0u) == 0x80u) {
-    --cut; /* text[cut] continues a sequence: cut before its start */
-  }
-  return cut;
 }
 
 static unsigned set_label(const plumb_uris *uris, const LV2_Atom *value,

@@ -11,6 +11,7 @@
   (Fletcher & Rossing, "The Physics of Musical Instruments", 1998).
 */
 #include "measures/definite_pitch.h"
+#include "measure_fixture.h"
 
 #include <setjmp.h>
 #include <stdarg.h>
@@ -22,17 +23,6 @@
 
 #define FRAMES 20
 #define F0_HZ  220.0
-
-static measure_context context_48k(void) {
-  measure_context c;
-  memset(&c, 0, sizeof c);
-  c.sample_rate_hz = 48000.0;
-  c.fft_size = 2048;
-  c.hop = 256;
-  c.hop_s = 256 / 48000.0;
-  c.frame_s = 2048 / 48000.0;
-  return c;
-}
 
 static frame_record frames[FRAMES];
 static double f0_cache[FRAMES];

@@ -8,6 +8,7 @@
   direct summation, independently of the module's closed form.
 */
 #include "measures/note_edges.h"
+#include "measure_fixture.h"
 
 #include <setjmp.h>
 #include <stdarg.h>
@@ -17,22 +18,8 @@
 #include <math.h>
 #include <string.h>
 
-#define RATE_HZ     48000.0
-#define FFT         2048
-#define HOP         256
 #define FRAMES      120
 #define STEADY_DBFS (-12.0)
-
-static measure_context context_48k(void) {
-  measure_context c;
-  memset(&c, 0, sizeof c);
-  c.sample_rate_hz = RATE_HZ;
-  c.fft_size = FFT;
-  c.hop = HOP;
-  c.hop_s = HOP / RATE_HZ;
-  c.frame_s = FFT / RATE_HZ;
-  return c;
-}
 
 /* The share of the squared periodic Hann window of a frame centred at
    `centre` that falls on samples n with on(n). */

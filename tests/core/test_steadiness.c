@@ -10,6 +10,7 @@
   window's samples, and the module must undo it.
 */
 #include "measures/steadiness.h"
+#include "measure_fixture.h"
 
 #include <setjmp.h>
 #include <stdarg.h>
@@ -19,21 +20,7 @@
 #include <math.h>
 #include <string.h>
 
-#define RATE_HZ 48000.0
-#define FFT     2048
-#define HOP     256
 #define MAX_N   400
-
-static measure_context context_48k(void) {
-  measure_context c;
-  memset(&c, 0, sizeof c);
-  c.sample_rate_hz = RATE_HZ;
-  c.fft_size = FFT;
-  c.hop = HOP;
-  c.hop_s = HOP / RATE_HZ;
-  c.frame_s = FFT / RATE_HZ;
-  return c;
-}
 
 /* |sum w^2(n) e^(-j 2 pi f t_n)| / sum w^2(n) over the periodic Hann
    window, t_n from its centre, times the hop's sinc. */

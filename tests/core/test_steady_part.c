@@ -7,6 +7,7 @@
   the module's stated rules beside each check.
 */
 #include "measures/steady_part.h"
+#include "measure_fixture.h"
 
 #include <setjmp.h>
 #include <stdarg.h>
@@ -16,22 +17,8 @@
 #include <math.h>
 #include <string.h>
 
-#define RATE_HZ      48000.0
-#define FFT          2048
-#define HOP          256
 #define START_SAMPLE 24000 /* the note from 0.5 s */
 #define COUNT        188   /* frames a hop apart; the note ends 100 samples after */
-
-static measure_context context_48k(void) {
-  measure_context c;
-  memset(&c, 0, sizeof c);
-  c.sample_rate_hz = RATE_HZ;
-  c.fft_size = FFT;
-  c.hop = HOP;
-  c.hop_s = HOP / RATE_HZ;
-  c.frame_s = FFT / RATE_HZ;
-  return c;
-}
 
 static void steady_note(frame_record *frames, double hz) {
   memset(frames, 0, sizeof(frame_record) * COUNT);
